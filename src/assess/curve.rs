@@ -1,0 +1,203 @@
+//! S-N curves built from a family's segment list: reference point, knees, cut-off.
+
+use crate::catalogue::Segment;
+use crate::results::{CurvePoint, CurveResult};
+
+/// A multi-segment S-N curve through (reference_cycles, reference_range).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SnCurve {
+    pub reference_cycles: f64,
+    pub reference_range: f64,
+    pub slopes: Vec<f64>,
+    /// (cycles, range) at the end of each bounded segment.
+    pub knees: Vec<(f64, f64)>,
+    /// Ranges below the last knee cause no damage.
+    pub cut_off: bool,
+    symbols: Vec<(Option<String>, Option<String>)>,
+}
+
+impl SnCurve {
+    pub fn new(segments: &[Segment], reference_cycles: f64, reference_range: f64) -> SnCurve {
+        let mut knees = Vec::new();
+        let mut symbols = Vec::new();
+        let (mut n_prev, mut s_prev) = (reference_cycles, reference_range);
+        for seg in segments {
+            if let Some(n_end) = seg.end_cycles {
+                // Range at a knee on a line of slope m: Δσ_end = Δσ_prev·(N_prev/N_end)^(1/m)
+                // (EN 1993-1-9 eqs. (7.2), (7.3) form)
+                let s_end = s_prev * (n_prev / n_end).powf(1.0 / seg.slope_m);
+                knees.push((n_end, s_end));
+                symbols.push((seg.knee_symbol.clone(), seg.knee_name.clone()));
+                n_prev = n_end;
+                s_prev = s_end;
+            }
+        }
+        let cut_off = segments.last().is_some_and(|s| s.end_cycles.is_some());
+        SnCurve {
+            reference_cycles,
+            reference_range,
+            slopes: segments.iter().map(|s| s.slope_m).collect(),
+            knees,
+            cut_off,
+            symbols,
+        }
+    }
+
+    /// The same curve moved to another reference range (a scaled category).
+    pub fn scaled(&self, factor: f64) -> SnCurve {
+        let mut c = self.clone();
+        c.reference_range *= factor;
+        for k in &mut c.knees {
+            k.1 *= factor;
+        }
+        c
+    }
+
+    /// Endurance N and the 1-based segment for a range; `None` below the cut-off.
+    pub fn endurance(&self, range: f64) -> Option<(f64, usize)> {
+        // Segment 1 extends without bound to high ranges: N = N_C·(Δσ_C/Δσ)^m1 (eq. (7.1) form)
+        if self.knees.is_empty() || range >= self.knees[0].1 {
+            let n = self.reference_cycles * (self.reference_range / range).powf(self.slopes[0]);
+            return Some((n, 1));
+        }
+        for i in 1..self.slopes.len() {
+            let (n_k, s_k) = self.knees[i - 1];
+            match self.knees.get(i) {
+                Some(&(_, s_low)) if range < s_low => continue,
+                // Segment i+1 through the previous knee: N = N_k·(Δσ_k/Δσ)^m
+                _ => return Some((n_k * (s_k / range).powf(self.slopes[i]), i + 1)),
+            }
+        }
+        None
+    }
+
+    /// Range on the curve at a given number of cycles (for plots and checks); zero
+    /// beyond the cut-off.
+    pub fn range_at(&self, cycles: f64) -> f64 {
+        let (mut n_prev, mut s_prev) = (self.reference_cycles, self.reference_range);
+        for (i, &m) in self.slopes.iter().enumerate() {
+            let end = self.knees.get(i).map(|k| k.0);
+            if i == 0 && cycles <= self.reference_cycles {
+                return s_prev * (n_prev / cycles).powf(1.0 / m);
+            }
+            match end {
+                Some(n_end) if cycles > n_end => {
+                    let k = self.knees[i];
+                    n_prev = k.0;
+                    s_prev = k.1;
+                }
+                _ => return s_prev * (n_prev / cycles).powf(1.0 / m),
+            }
+        }
+        0.0
+    }
+
+    pub fn to_result(&self) -> CurveResult {
+        CurveResult {
+            reference_cycles: self.reference_cycles,
+            reference_range_mpa: self.reference_range,
+            slopes: self.slopes.clone(),
+            knees: self
+                .knees
+                .iter()
+                .zip(&self.symbols)
+                .map(|(&(n, s), (sym, name))| CurvePoint {
+                    cycles: n,
+                    range_mpa: s,
+                    symbol: sym.clone(),
+                    name: name.clone(),
+                })
+                .collect(),
+            cut_off: self.cut_off,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn seg(m: f64, end: Option<f64>) -> Segment {
+        Segment {
+            slope_m: m,
+            end_cycles: end,
+            knee_symbol: None,
+            knee_name: None,
+        }
+    }
+
+    fn en_normal(cat: f64) -> SnCurve {
+        SnCurve::new(&[seg(3.0, Some(5e6)), seg(5.0, Some(1e8))], 2e6, cat)
+    }
+
+    #[test]
+    fn en_knees_match_printed_values() {
+        // EN 1993-1-9 Fig. 7.1 printed values (from memory): ΔσC 160 -> ΔσD 117.9, ΔσL 64.8
+        let c = en_normal(160.0);
+        assert!((c.knees[0].1 - 117.9).abs() < 0.05);
+        assert!((c.knees[1].1 - 64.8).abs() < 0.05);
+        // ΔσC 100 -> ΔσD 73.7, ΔσL 40.5 (EN 1993-1-9 Fig. 7.1, from memory)
+        let c = en_normal(100.0);
+        assert!((c.knees[0].1 - 73.7).abs() < 0.05);
+        assert!((c.knees[1].1 - 40.5).abs() < 0.05);
+        // ΔσC 36 -> ΔσD 26.5, ΔσL 14.6 (EN 1993-1-9 Fig. 7.1, from memory)
+        let c = en_normal(36.0);
+        assert!((c.knees[0].1 - 26.5).abs() < 0.05);
+        assert!((c.knees[1].1 - 14.6).abs() < 0.05);
+        // ΔσC 71 -> ΔσD 52.3, ΔσL 28.7 (EN 1993-1-9 Fig. 7.1, from memory)
+        let c = en_normal(71.0);
+        assert!((c.knees[0].1 - 52.3).abs() < 0.05);
+        assert!((c.knees[1].1 - 28.7).abs() < 0.05);
+    }
+
+    #[test]
+    fn en_shear_cut_off() {
+        // EN 1993-1-9 Fig. 7.2: ΔτL = (2/100)^(1/5)·ΔτC; ΔτC 100 -> 45.7, ΔτC 80 -> 36.6 (from memory)
+        let c = SnCurve::new(&[seg(5.0, Some(1e8))], 2e6, 100.0);
+        assert!((c.knees[0].1 - 45.7).abs() < 0.05);
+        let c = SnCurve::new(&[seg(5.0, Some(1e8))], 2e6, 80.0);
+        assert!((c.knees[0].1 - 36.6).abs() < 0.05);
+        assert!(c.endurance(36.0).is_none());
+    }
+
+    #[test]
+    fn endurance_on_each_segment() {
+        let c = en_normal(100.0);
+        // At ΔσC: N = 2e6 by definition (EN 1993-1-9 eq. (7.1))
+        let (n, s) = c.endurance(100.0).unwrap();
+        assert!((n - 2e6).abs() < 1e-3);
+        assert_eq!(s, 1);
+        // Half the category on m = 3: N = 2e6·2^3 = 1.6e7 > 5e6, so it lies on m = 5:
+        // N = 5e6·(73.68/50)^5 (EN 1993-1-9 eq. (7.2)), hand-worked: 3.4743e7
+        let (n, s) = c.endurance(50.0).unwrap();
+        assert_eq!(s, 2);
+        let dd = 100.0 * (0.4f64).powf(1.0 / 3.0);
+        assert!((n - 5e6 * (dd / 50.0).powi(5)).abs() / n < 1e-12);
+        assert!((n - 3.4743e7).abs() / n < 1e-4);
+        // Below ΔσL = 40.5: no damage (EN 1993-1-9 7.1(3) cut-off)
+        assert!(c.endurance(40.0).is_none());
+    }
+
+    #[test]
+    fn open_tail_continues() {
+        // IIW normal stress: m = 3 to 1e7, then m = 22 (IIW 3.2.1, from memory)
+        let c = SnCurve::new(&[seg(3.0, Some(1e7)), seg(22.0, None)], 2e6, 90.0);
+        let k = c.knees[0].1;
+        // Knee at 1e7: FAT·(2e6/1e7)^(1/3) = 0.5848·FAT (IIW 3.2.1 knee, from memory)
+        assert!((k / 90.0 - 0.5848).abs() < 1e-4);
+        let (n, s) = c.endurance(k * 0.5).unwrap();
+        assert_eq!(s, 2);
+        assert!((n - 1e7 * 2f64.powi(22)).abs() / n < 1e-12);
+        assert!(!c.cut_off);
+    }
+
+    #[test]
+    fn range_at_inverts_endurance() {
+        let c = en_normal(80.0);
+        for r in [200.0, 80.0, 59.0, 45.0, 33.0] {
+            let (n, _) = c.endurance(r).unwrap();
+            assert!((c.range_at(n) - r).abs() < 1e-9 * r);
+        }
+        assert_eq!(c.range_at(2e8), 0.0);
+    }
+}

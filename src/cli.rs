@@ -1,0 +1,489 @@
+//! The command line. `main.rs` only calls [`main`]; everything here is reachable from
+//! tests through the binary.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::catalogue::{Component, Family, Library};
+use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_PASS};
+use crate::results::{Results, Status, CAUTION_LINE};
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "seamlife",
+    version,
+    about = "Fatigue assessment of welded steel details by the nominal-stress (detail category) method",
+    after_help = "Exit codes: 0 all details pass, 1 some detail fails or lies outside the method, 2 bad input, 3 internal error or missing tool.\n\nThe governing code, the project specification and review by a licensed/chartered engineer prevail over this tool's output."
+)]
+pub struct Cli {
+    /// Folder of curve-family files that replace or add to the built-in families.
+    #[arg(
+        long,
+        global = true,
+        env = "SEAMLIFE_JOINT_CLASSES",
+        value_name = "DIR"
+    )]
+    pub joint_classes: Option<PathBuf>,
+
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Assess every detail of a project and print a summary table.
+    Assess(AssessArgs),
+    /// Check a project file without assessing it.
+    Lint {
+        /// Project file (YAML).
+        file: PathBuf,
+    },
+    /// List curve families, or the categories and catalogue of one family.
+    Classes {
+        /// Family id, e.g. en1993-1-9.
+        family: Option<String>,
+    },
+    /// Write a starter project into a new folder.
+    New {
+        /// Folder to create (it must not hold a project.yaml yet).
+        dir: PathBuf,
+    },
+}
+
+#[derive(Args, Debug)]
+pub struct AssessArgs {
+    /// Project file (YAML).
+    pub file: PathBuf,
+    /// Write the results model as JSON instead of the table.
+    #[arg(long, conflicts_with = "csv")]
+    pub json: bool,
+    /// Write one CSV row per detail instead of the table.
+    #[arg(long)]
+    pub csv: bool,
+    /// Write to this file instead of standard output (written whole or not at all).
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
+
+/// Parse arguments, run, print errors, and return the process exit code.
+pub fn main() -> i32 {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() {
+                EXIT_BAD_INPUT
+            } else {
+                EXIT_PASS
+            };
+            let _ = e.print();
+            return code;
+        }
+    };
+    match run(&cli) {
+        Ok(code) => code,
+        Err(e) => {
+            report_error(&e);
+            e.exit_code()
+        }
+    }
+}
+
+/// Print an error with its location and hint to standard error.
+pub fn report_error(e: &Error) {
+    let mut err = std::io::stderr().lock();
+    let inputs = e.input_errors();
+    if inputs.is_empty() {
+        let _ = writeln!(err, "error: {e}");
+        if let Some(h) = e.hint() {
+            let _ = writeln!(err, "  hint: {h}");
+        }
+    } else {
+        for ie in &inputs {
+            let _ = writeln!(err, "error: {ie}");
+            if let Some(h) = &ie.hint {
+                let _ = writeln!(err, "  hint: {h}");
+            }
+        }
+        if inputs.len() > 1 {
+            let _ = writeln!(
+                err,
+                "{} problems found; nothing was assessed.",
+                inputs.len()
+            );
+        }
+    }
+}
+
+pub fn run(cli: &Cli) -> Result<i32, Error> {
+    let library = Library::load(cli.joint_classes.as_deref())?;
+    match &cli.command {
+        Command::Assess(a) => assess(a, &library),
+        Command::Lint { file } => lint(file, &library),
+        Command::Classes { family } => classes(family.as_deref(), &library),
+        Command::New { dir } => new_project(dir, &library),
+    }
+}
+
+/// The exit code for a set of results.
+pub fn exit_code_for(r: &Results) -> i32 {
+    if r.details.iter().all(|d| d.status == Status::Pass) {
+        EXIT_PASS
+    } else {
+        EXIT_FAIL
+    }
+}
+
+fn assess(a: &AssessArgs, library: &Library) -> Result<i32, Error> {
+    let results = crate::run_project(&a.file, library)?;
+    let text = if a.json {
+        let mut s = serde_json::to_string_pretty(&results)
+            .map_err(|e| Error::Internal(format!("cannot serialise results: {e}")))?;
+        s.push('\n');
+        s
+    } else if a.csv {
+        csv_summary(&results)?
+    } else {
+        table(&results)
+    };
+    match &a.output {
+        Some(path) => write_atomic(path, text.as_bytes())?,
+        None => {
+            let mut out = std::io::stdout().lock();
+            let _ = out.write_all(text.as_bytes());
+        }
+    }
+    if a.json || a.csv || a.output.is_some() {
+        eprintln!("{CAUTION_LINE}");
+    }
+    Ok(exit_code_for(&results))
+}
+
+/// Write a file whole or not at all: a temporary file in the same folder, renamed.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Error> {
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let out_err = |source| Error::Output {
+        path: path.to_path_buf(),
+        source,
+    };
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".seamlife-")
+        .suffix(".part")
+        .tempfile_in(&dir)
+        .map_err(out_err)?;
+    tmp.write_all(bytes).map_err(out_err)?;
+    tmp.as_file().sync_all().map_err(out_err)?;
+    tmp.persist(path).map_err(|e| out_err(e.error))?;
+    Ok(())
+}
+
+/// Life in years for a table cell.
+pub fn fmt_life(l: Option<f64>) -> String {
+    match l {
+        None => "no damage".into(),
+        Some(y) if y >= 1e6 => format!("{y:.1e}"),
+        Some(y) if y >= 100.0 => format!("{y:.0}"),
+        Some(y) => format!("{y:.1}"),
+    }
+}
+
+fn category_cell(d: &crate::results::DetailResult) -> String {
+    d.components
+        .iter()
+        .map(|c| {
+            let cat = format!("{}", c.category_mpa);
+            if c.component == "shear" {
+                format!("τ{cat}")
+            } else {
+                cat
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+fn truncate(s: &str, n: usize) -> String {
+    if s.chars().count() <= n {
+        s.to_string()
+    } else {
+        let mut t: String = s.chars().take(n - 1).collect();
+        t.push('…');
+        t
+    }
+}
+
+/// The readable table printed by `assess`.
+pub fn table(r: &Results) -> String {
+    let mut rows: Vec<[String; 7]> = vec![[
+        "id".into(),
+        "location".into(),
+        "category MPa".into(),
+        "damage".into(),
+        "utilisation".into(),
+        "life years".into(),
+        "status".into(),
+    ]];
+    for d in &r.details {
+        rows.push([
+            d.id.clone(),
+            truncate(&d.location, 44),
+            category_cell(d),
+            format!("{:.3}", d.damage),
+            format!("{:.3}", d.utilisation),
+            fmt_life(d.life_years),
+            d.status.as_str().into(),
+        ]);
+    }
+    let mut widths = [0usize; 7];
+    for row in &rows {
+        for (w, c) in widths.iter_mut().zip(row) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    let mut out = String::new();
+    out.push_str(&format!(
+        "{} {} rev {} | family {} | design life {} years | γFf {} γMf {} D_lim {}\n\n",
+        r.project.reference,
+        r.project.title,
+        r.project.revision,
+        r.family.id,
+        r.basis.design_life_years,
+        r.basis.gamma_ff.value,
+        r.basis.gamma_mf.value,
+        r.basis.damage_limit.value
+    ));
+    for (i, row) in rows.iter().enumerate() {
+        let mut line = String::new();
+        for (j, (c, w)) in row.iter().zip(widths).enumerate() {
+            let pad = w - c.chars().count();
+            // numbers right-aligned, text left-aligned
+            if (3..=5).contains(&j) && i > 0 {
+                line.push_str(&" ".repeat(pad));
+                line.push_str(c);
+            } else {
+                line.push_str(c);
+                line.push_str(&" ".repeat(pad));
+            }
+            line.push_str("  ");
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+        if i == 0 {
+            let total: usize = widths.iter().sum::<usize>() + 2 * 6;
+            out.push_str(&"-".repeat(total));
+            out.push('\n');
+        }
+    }
+    out.push('\n');
+    let s = &r.summary;
+    out.push_str(&format!(
+        "{} details: {} pass, {} fail, {} outside the method; governing {} at utilisation {:.3}\n",
+        s.details,
+        s.passed,
+        s.failed,
+        s.outside_method,
+        s.governing_detail.as_deref().unwrap_or("-"),
+        s.max_utilisation
+    ));
+    for d in &r.details {
+        for w in &d.warnings {
+            out.push_str(&format!("warning: {}: {}\n", d.id, w.message));
+        }
+    }
+    out.push_str(CAUTION_LINE);
+    out.push('\n');
+    out
+}
+
+/// One CSV row per detail.
+pub fn csv_summary(r: &Results) -> Result<String, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
+    w.write_record([
+        "id",
+        "location",
+        "status",
+        "utilisation",
+        "governing_check",
+        "damage",
+        "damage_limit",
+        "life_years",
+        "reserve_factor",
+        "required_category_mpa",
+        "normal_category_mpa",
+        "normal_equivalent_range_mpa",
+        "shear_category_mpa",
+        "shear_equivalent_range_mpa",
+        "warnings",
+    ])
+    .map_err(e)?;
+    let opt = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
+    for d in &r.details {
+        let comp = |name: &str| d.components.iter().find(|c| c.component == name);
+        w.write_record([
+            d.id.clone(),
+            d.location.clone(),
+            d.status.as_str().to_string(),
+            format!("{}", d.utilisation),
+            d.governing_check.clone(),
+            format!("{}", d.damage),
+            format!("{}", d.damage_limit),
+            opt(d.life_years),
+            opt(d.reserve_factor),
+            opt(d.required_category),
+            opt(comp("normal").map(|c| c.category_mpa)),
+            opt(comp("normal").map(|c| c.equivalent_range_mpa)),
+            opt(comp("shear").map(|c| c.category_mpa)),
+            opt(comp("shear").map(|c| c.equivalent_range_mpa)),
+            d.warnings
+                .iter()
+                .map(|w| w.code.clone())
+                .collect::<Vec<_>>()
+                .join(";"),
+        ])
+        .map_err(e)?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| Error::Internal(format!("csv: {e}")))?;
+    String::from_utf8(bytes).map_err(|e| Error::Internal(format!("csv: {e}")))
+}
+
+fn lint(file: &Path, library: &Library) -> Result<i32, Error> {
+    let project = crate::input::load_project(file, library)?;
+    println!(
+        "ok: {} — {} details, family {}, schema version {}",
+        file.display(),
+        project.file.details.len(),
+        project.file.basis.family,
+        project.file.seamlife
+    );
+    Ok(EXIT_PASS)
+}
+
+fn classes(family: Option<&str>, library: &Library) -> Result<i32, Error> {
+    let mut out = String::new();
+    match family {
+        None => {
+            out.push_str("Curve families (use `seamlife classes ID` for one):\n\n");
+            for f in &library.families {
+                out.push_str(&format!(
+                    "  {:<12} {} — {} ({} catalogue entries, data {})\n",
+                    f.id,
+                    f.title,
+                    f.edition,
+                    f.catalogue.len(),
+                    f.data_version
+                ));
+            }
+        }
+        Some(id) => {
+            let Some(f) = library.get(id) else {
+                let ids = library.ids();
+                let hint = match crate::input::suggest(id, ids.iter().copied()) {
+                    Some(n) => format!("did you mean `{n}`?"),
+                    None => format!("known families: {}", ids.join(", ")),
+                };
+                return Err(Error::Input(
+                    crate::error::InputError::new(
+                        crate::error::InputErrorKind::UnknownFamily,
+                        crate::error::Location::file(Path::new("<command line>")),
+                        format!("unknown curve family `{id}`"),
+                    )
+                    .hint(hint),
+                ));
+            };
+            family_listing(f, &mut out);
+        }
+    }
+    out.push('\n');
+    out.push_str(CAUTION_LINE);
+    out.push('\n');
+    print!("{out}");
+    Ok(EXIT_PASS)
+}
+
+fn family_listing(f: &Family, out: &mut String) {
+    out.push_str(&format!("{} — {}\n{}\n", f.id, f.title, f.edition));
+    out.push_str(&format!(
+        "data version {}: {}\n\n",
+        f.data_version, f.transcription_note
+    ));
+    for c in [Component::Normal, Component::Shear] {
+        let def = f.curves.get(c);
+        out.push_str(&format!(
+            "{} stress categories {} (MPa at {:.0e} cycles): {}\n",
+            c.as_str(),
+            f.category_symbol.get(c),
+            f.reference_cycles,
+            def.categories_mpa
+                .iter()
+                .map(|x| format!("{x}"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+        for (name, v) in &def.variants {
+            out.push_str(&format!("  curve variant `{name}`: {}\n", v.name));
+        }
+    }
+    out.push_str("\nmean-stress cases:\n");
+    for (k, c) in &f.mean_stress.cases {
+        out.push_str(&format!("  {k:<18} {}\n", c.name));
+    }
+    out.push_str("\ncatalogue:\n");
+    let kw = f
+        .catalogue
+        .iter()
+        .map(|e| e.key.len())
+        .max()
+        .unwrap_or(3)
+        .max(3);
+    out.push_str(&format!(
+        "  {:<kw$}  {:>6}  {:>6}  {:>4}  description [reference]\n",
+        "key", "normal", "shear", "n"
+    ));
+    for e in &f.catalogue {
+        let o = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_else(|| "-".into());
+        out.push_str(&format!(
+            "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]\n",
+            e.key,
+            o(e.normal_category),
+            o(e.shear_category),
+            o(e.thickness_exponent),
+            e.description,
+            e.reference
+        ));
+    }
+}
+
+fn new_project(dir: &Path, library: &Library) -> Result<i32, Error> {
+    let target = dir.join("project.yaml");
+    if target.exists() {
+        return Err(Error::Input(
+            crate::error::InputError::new(
+                crate::error::InputErrorKind::Io,
+                crate::error::Location::file(&target),
+                "already exists; seamlife new will not overwrite it",
+            )
+            .hint("choose a new folder"),
+        ));
+    }
+    std::fs::create_dir_all(dir).map_err(|source| Error::Output {
+        path: dir.to_path_buf(),
+        source,
+    })?;
+    write_atomic(&target, crate::starter::STARTER_PROJECT.as_bytes())?;
+    // The starter must pass its own check.
+    crate::input::load_project(&target, library)
+        .map_err(|e| Error::Internal(format!("starter project does not pass lint: {e}")))?;
+    println!(
+        "wrote {}; edit it, then run `seamlife assess {}`",
+        target.display(),
+        target.display()
+    );
+    Ok(EXIT_PASS)
+}

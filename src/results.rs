@@ -1,0 +1,420 @@
+//! The results model: everything the assessment found, in a serialisable form. It is
+//! the only thing the report stage reads, and what `--json` writes.
+//!
+//! Units are in the field names. Values that can be unbounded (a life with no damage)
+//! are `null` in JSON.
+
+use serde::{Deserialize, Serialize};
+
+pub const MODEL_VERSION: u32 = 1;
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Results {
+    pub model_version: u32,
+    pub tool: ToolInfo,
+    pub input: InputInfo,
+    pub project: ProjectEcho,
+    pub family: FamilyInfo,
+    pub basis: BasisUsed,
+    pub summary: Summary,
+    pub details: Vec<DetailResult>,
+    /// Catalogue entries referred to by the details, for the appendix.
+    pub catalogue_used: Vec<CatalogueEntryUsed>,
+    pub cautions: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ToolInfo {
+    pub name: String,
+    pub version: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct InputInfo {
+    /// File name only (no folders), so results do not depend on the machine.
+    pub file_name: String,
+    pub sha256: String,
+    pub bytes: u64,
+    /// The project file, verbatim.
+    pub text: String,
+    /// Series files read, with their hashes.
+    pub series_files: Vec<SeriesFileInfo>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct SeriesFileInfo {
+    /// Path as written in the project file.
+    pub file: String,
+    pub sha256: String,
+    pub bytes: u64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ProjectEcho {
+    pub title: String,
+    pub reference: String,
+    pub revision: String,
+    pub prepared_by: String,
+    pub checked_by: Option<String>,
+    pub date: String,
+    pub client: Option<String>,
+    pub structure: Option<String>,
+    pub specification: Option<String>,
+    pub revisions: Vec<RevisionEcho>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct RevisionEcho {
+    pub revision: String,
+    pub date: String,
+    pub description: String,
+    pub by: Option<String>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FamilyInfo {
+    pub id: String,
+    pub title: String,
+    pub edition: String,
+    pub data_version: String,
+    pub transcription_note: String,
+    /// `embedded` or the override file name.
+    pub origin: String,
+    pub reference_cycles: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct FactorUsed {
+    pub value: f64,
+    /// Where the value comes from (clause), or the family's value when overridden.
+    pub source: String,
+    pub overridden: bool,
+    /// The user's stated reason for an override.
+    pub reason: Option<String>,
+    /// The family's value, shown beside an override.
+    pub family_value: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CurveSegmentInfo {
+    pub slope_m: f64,
+    /// Cycles where the segment ends; `null`: continues without cut-off.
+    pub end_cycles: Option<f64>,
+    pub knee_symbol: Option<String>,
+    pub knee_name: Option<String>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CurveRuleInfo {
+    pub component: String,
+    pub symbol: String,
+    pub category_symbol: String,
+    pub segments: Vec<CurveSegmentInfo>,
+    /// Range at or below which constant-amplitude loading causes no damage, as the
+    /// 1-based knee index.
+    pub constant_amplitude_limit_knee: Option<usize>,
+    pub variant: Option<String>,
+    pub source: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct BasisUsed {
+    pub design_life_years: f64,
+    pub strategy: String,
+    pub consequence: String,
+    pub gamma_ff: FactorUsed,
+    pub gamma_mf: FactorUsed,
+    pub damage_limit: FactorUsed,
+    pub utilisation_form: String,
+    pub verification_source: String,
+    pub interaction: Option<InteractionRule>,
+    pub curves: Vec<CurveRuleInfo>,
+    pub thickness_rule: String,
+    pub mean_stress_rule: String,
+    pub validity_rule: String,
+    pub method: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct InteractionRule {
+    pub normal_exponent: f64,
+    pub shear_exponent: f64,
+    pub limit: f64,
+    pub case: Option<String>,
+    pub source: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Summary {
+    pub details: usize,
+    pub passed: usize,
+    pub failed: usize,
+    pub outside_method: usize,
+    /// The detail with the highest utilisation.
+    pub governing_detail: Option<String>,
+    pub max_utilisation: f64,
+    pub warnings: usize,
+}
+
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "kebab-case")]
+pub enum Status {
+    Pass,
+    Fail,
+    /// A range exceeds the validity limit: the nominal-stress high-cycle method does
+    /// not cover the detail.
+    OutsideMethod,
+}
+
+impl Status {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Status::Pass => "PASS",
+            Status::Fail => "FAIL",
+            Status::OutsideMethod => "OUTSIDE METHOD",
+        }
+    }
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct Warning {
+    pub code: String,
+    pub message: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct DetailResult {
+    pub id: String,
+    pub location: String,
+    pub description: Option<String>,
+    pub detail_key: Option<String>,
+    pub catalogue_reference: Option<String>,
+    pub catalogue_description: Option<String>,
+    pub material: String,
+    pub fy_mpa: f64,
+    pub thickness_mm: f64,
+    pub status: Status,
+    /// The governing verification value (pass when <= 1).
+    pub utilisation: f64,
+    /// Which check governs: `normal`, `shear` or `interaction`.
+    pub governing_check: String,
+    /// The largest component damage over the design life.
+    pub damage: f64,
+    pub damage_limit: f64,
+    pub life_years: Option<f64>,
+    /// Factor on all stress ranges that brings the governing check to its limit.
+    pub reserve_factor: Option<f64>,
+    /// Lowest catalogue category of the governing component that passes.
+    pub required_category: Option<f64>,
+    pub components: Vec<ComponentResult>,
+    pub interaction: Option<InteractionResult>,
+    pub warnings: Vec<Warning>,
+    pub notes: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct InteractionResult {
+    pub normal_ratio: f64,
+    pub shear_ratio: f64,
+    pub normal_exponent: f64,
+    pub shear_exponent: f64,
+    /// normal_ratio^normal_exponent + shear_ratio^shear_exponent
+    pub value: f64,
+    pub limit: f64,
+    pub source: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct SizeCorrection {
+    pub applies: bool,
+    pub thickness_mm: f64,
+    pub effective_thickness_mm: f64,
+    pub reference_mm: f64,
+    pub exponent: Option<f64>,
+    /// ks (EN) or f(t) (IIW); 1.0 when it does not apply.
+    pub factor: f64,
+    pub source: String,
+    pub exponent_from: String,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct MeanStressCorrection {
+    pub case: String,
+    pub case_name: String,
+    /// `compressive-fraction` or `enhancement`.
+    pub rule: String,
+    pub source: String,
+    /// Whether any block carried max/min so that the rule could act.
+    pub acted: bool,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CurvePoint {
+    pub cycles: f64,
+    pub range_mpa: f64,
+    pub symbol: Option<String>,
+    pub name: Option<String>,
+}
+
+/// An S-N curve fixed by its reference point and knees (all MPa and cycles).
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CurveResult {
+    pub reference_cycles: f64,
+    pub reference_range_mpa: f64,
+    pub slopes: Vec<f64>,
+    /// Knee points, one per segment end.
+    pub knees: Vec<CurvePoint>,
+    /// True when ranges below the last knee cause no damage.
+    pub cut_off: bool,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct BlockResult {
+    pub event: String,
+    /// `given` for a block of the project file, `counted` for a rainflow cell.
+    pub origin: String,
+    pub range_mpa: f64,
+    pub max_mpa: Option<f64>,
+    pub min_mpa: Option<f64>,
+    pub mean_mpa: Option<f64>,
+    pub amplitude_mpa: f64,
+    /// σmin/σmax; `null` when σmax = 0 or unknown.
+    pub stress_ratio: Option<f64>,
+    /// Δσ_eff/Δσ from the mean-stress rule (1.0 when it does not act).
+    pub mean_stress_factor: f64,
+    pub effective_range_mpa: f64,
+    /// γFf · effective range.
+    pub design_range_mpa: f64,
+    pub cycles_per_year: f64,
+    pub cycles_design_life: f64,
+    /// 1-based curve segment; `null` below the cut-off.
+    pub segment: Option<usize>,
+    pub endurance_cycles: Option<f64>,
+    pub damage: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct BandDamage {
+    pub label: String,
+    pub cycles_design_life: f64,
+    pub damage: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ComponentResult {
+    pub component: String,
+    pub symbol: String,
+    pub category_symbol: String,
+    /// Category used (ΔσC, FAT), MPa.
+    pub category_mpa: f64,
+    /// `catalogue`, `hand` or `hand-over-catalogue`.
+    pub category_source: String,
+    pub catalogue_category_mpa: Option<f64>,
+    pub size: SizeCorrection,
+    pub mean_stress: MeanStressCorrection,
+    /// size factor · category
+    pub corrected_category_mpa: f64,
+    pub gamma_mf: f64,
+    pub gamma_ff: f64,
+    /// size factor · category / γMf
+    pub design_category_mpa: f64,
+    pub characteristic_curve: CurveResult,
+    pub design_curve: CurveResult,
+    pub constant_amplitude_limit_mpa: Option<f64>,
+    /// True when the loading was constant amplitude at or below its limit.
+    pub constant_amplitude_rule_applied: bool,
+    pub blocks: Vec<BlockResult>,
+    pub damage_by_band: Vec<BandDamage>,
+    pub damage_per_year: f64,
+    pub damage: f64,
+    pub damage_limit: f64,
+    /// Slope used for the equivalent range (first segment).
+    pub equivalent_slope_m: f64,
+    /// ΔσE,2: constant range at the reference cycles giving the same damage.
+    pub equivalent_range_mpa: f64,
+    /// γFf · ΔσE,2
+    pub design_equivalent_range_mpa: f64,
+    /// (D/D_lim)^(1/m1)
+    pub range_ratio: f64,
+    pub utilisation: f64,
+    pub life_years: Option<f64>,
+    pub required_category_mpa: Option<f64>,
+    pub cycles_design_life: f64,
+    pub cycles_below_cut_off: f64,
+    pub max_range_mpa: f64,
+    pub validity_limit_mpa: f64,
+    pub counted: Vec<CountedRecord>,
+}
+
+/// A measured or simulated record counted by rainflow for one loading event.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CountedRecord {
+    pub event: String,
+    pub file: String,
+    pub column: String,
+    pub unit: String,
+    pub scale: f64,
+    pub modulus_mpa: Option<f64>,
+    pub samples: u64,
+    pub reversals: u64,
+    pub full_cycles: u64,
+    pub half_cycles: u64,
+    pub min_mpa: f64,
+    pub max_mpa: f64,
+    pub mean_mpa: f64,
+    pub std_dev_mpa: f64,
+    pub constant: bool,
+    pub gate_mpa: f64,
+    /// `repeated` or `half-cycles`.
+    pub residue: String,
+    pub repeats_per_year: f64,
+    pub bin_width_mpa: f64,
+    pub mean_bin_width_mpa: f64,
+    pub histogram: Vec<HistogramBin>,
+    pub matrix: Vec<MatrixCell>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct HistogramBin {
+    pub lo_mpa: f64,
+    pub hi_mpa: f64,
+    /// Cycles per record.
+    pub cycles: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct MatrixCell {
+    pub range_lo_mpa: f64,
+    pub range_hi_mpa: f64,
+    pub mean_lo_mpa: f64,
+    pub mean_hi_mpa: f64,
+    pub cycles: f64,
+    pub max_range_mpa: f64,
+    pub mean_mpa: f64,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CatalogueEntryUsed {
+    pub key: String,
+    pub reference: String,
+    pub description: String,
+    pub normal_category: Option<f64>,
+    pub shear_category: Option<f64>,
+    pub thickness_exponent: Option<f64>,
+    pub mean_stress_case: Option<String>,
+}
+
+/// The standing cautions printed by the command line and in the package.
+pub fn cautions(family_edition: &str) -> Vec<String> {
+    vec![
+        format!(
+            "The governing code ({family_edition}, with its National Annex where one applies), the project specification and review by a licensed or chartered engineer prevail over this output."
+        ),
+        "Assigning the detail category and defining the nominal stress ranges is the engineer's responsibility; seamlife checks arithmetic, not the choice of detail.".into(),
+        "Curve and catalogue data were transcribed by the seamlife developers, partly from memory; check every value against the edition in force.".into(),
+        "The nominal-stress method covers high-cycle fatigue only; ranges beyond the validity limit need a low-cycle assessment.".into(),
+    ]
+}
+
+/// One line for terminal output.
+pub const CAUTION_LINE: &str = "Caution: the governing code, the project specification and review by a licensed/chartered engineer prevail; category assignment is the engineer's responsibility; check transcribed curve data against the edition in force.";
