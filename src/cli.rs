@@ -35,6 +35,8 @@ pub struct Cli {
 pub enum Command {
     /// Assess every detail of a project and print a summary table.
     Assess(AssessArgs),
+    /// Assess a project and write the PDF calculation package (needs typst).
+    Report(ReportArgs),
     /// Check a project file without assessing it.
     Lint {
         /// Project file (YAML).
@@ -65,6 +67,27 @@ pub struct AssessArgs {
     /// Write to this file instead of standard output (written whole or not at all).
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+pub struct ReportArgs {
+    /// Project file (YAML).
+    pub file: PathBuf,
+    /// Output PDF [default: <reference>-rev<revision>-fatigue.pdf].
+    #[arg(short, long, value_name = "OUT.pdf")]
+    pub output: Option<PathBuf>,
+    /// Folder of templates replacing the built-in ones by file name (a firm's title block).
+    #[arg(long, value_name = "DIR")]
+    pub templates: Option<PathBuf>,
+    /// Keep the generated Typst source and plots in <OUT>-typst/ beside the PDF.
+    #[arg(long)]
+    pub keep_source: bool,
+    /// Write PDF/A-2b.
+    #[arg(long)]
+    pub pdf_a: bool,
+    /// The typst program [default: `typst` on PATH].
+    #[arg(long, env = "SEAMLIFE_TYPST", value_name = "PATH")]
+    pub typst: Option<PathBuf>,
 }
 
 /// Parse arguments, run, print errors, and return the process exit code.
@@ -120,6 +143,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
     let library = Library::load(cli.joint_classes.as_deref())?;
     match &cli.command {
         Command::Assess(a) => assess(a, &library),
+        Command::Report(a) => report(a, &library),
         Command::Lint { file } => lint(file, &library),
         Command::Classes { family } => classes(family.as_deref(), &library),
         Command::New { dir } => new_project(dir, &library),
@@ -351,6 +375,30 @@ pub fn csv_summary(r: &Results) -> Result<String, Error> {
         .into_inner()
         .map_err(|e| Error::Internal(format!("csv: {e}")))?;
     String::from_utf8(bytes).map_err(|e| Error::Internal(format!("csv: {e}")))
+}
+
+fn report(a: &ReportArgs, library: &Library) -> Result<i32, Error> {
+    let results = crate::run_project(&a.file, library)?;
+    let opts = crate::report::ReportOptions {
+        output: a.output.clone(),
+        templates: a.templates.clone(),
+        keep_source: a.keep_source,
+        pdf_a: a.pdf_a,
+        typst: a.typst.clone(),
+        creation_timestamp: None,
+    };
+    let out = crate::report::write_report(&results, &opts)?;
+    let s = &results.summary;
+    println!(
+        "wrote {} ({} details: {} pass, {} fail, {} outside the method)",
+        out.display(),
+        s.details,
+        s.passed,
+        s.failed,
+        s.outside_method
+    );
+    println!("{CAUTION_LINE}");
+    Ok(exit_code_for(&results))
 }
 
 fn lint(file: &Path, library: &Library) -> Result<i32, Error> {

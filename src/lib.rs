@@ -11,6 +11,7 @@ pub mod cli;
 pub mod error;
 pub mod histories;
 pub mod input;
+pub mod report;
 pub mod results;
 pub mod starter;
 

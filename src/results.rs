@@ -408,7 +408,7 @@ pub struct CatalogueEntryUsed {
 pub fn cautions(family_edition: &str) -> Vec<String> {
     vec![
         format!(
-            "The governing code ({family_edition}, with its National Annex where one applies), the project specification and review by a licensed or chartered engineer prevail over this output."
+            "The governing code and its National Annex (this package applies {family_edition}), the project specification and review by a licensed or chartered engineer prevail over this output."
         ),
         "Assigning the detail category and defining the nominal stress ranges is the engineer's responsibility; seamlife checks arithmetic, not the choice of detail.".into(),
         "Curve and catalogue data were transcribed by the seamlife developers, partly from memory; check every value against the edition in force.".into(),

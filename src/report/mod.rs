@@ -1,0 +1,196 @@
+//! Report stage: the calculation package. Reads only the results model: Tera templates
+//! render Typst source, plots are SVG written in Rust, and the external `typst` program
+//! compiles the PDF inside a temporary build folder.
+
+pub mod plots;
+pub mod templates;
+pub mod typst;
+
+use std::path::{Path, PathBuf};
+
+use serde_json::{json, Value};
+
+use crate::error::Error;
+use crate::results::Results;
+
+/// The typst-cli version the templates are written for (major.minor must match).
+pub const TYPST_VERSION: &str = "0.15.1";
+
+/// How to produce the package.
+#[derive(Debug, Clone, Default)]
+pub struct ReportOptions {
+    /// Output PDF; default from the project reference and revision.
+    pub output: Option<PathBuf>,
+    /// Folder of templates that replace the built-in ones by file name.
+    pub templates: Option<PathBuf>,
+    /// Keep the generated Typst source and plots beside the PDF.
+    pub keep_source: bool,
+    /// Produce PDF/A-2b.
+    pub pdf_a: bool,
+    /// The typst program to run.
+    pub typst: Option<PathBuf>,
+    /// Fixed creation time (UNIX seconds); default SOURCE_DATE_EPOCH or the project date.
+    pub creation_timestamp: Option<i64>,
+}
+
+/// The generated files of one package, before compilation.
+#[derive(Debug, Clone)]
+pub struct BuildFiles {
+    /// (relative path, contents); `main.typ` is the entry point.
+    pub files: Vec<(String, Vec<u8>)>,
+}
+
+/// Default PDF name: `<reference>-rev<revision>-fatigue.pdf`, with only safe characters.
+pub fn default_output_name(r: &Results) -> String {
+    let clean = |s: &str| -> String {
+        s.chars()
+            .map(|c| {
+                if c.is_ascii_alphanumeric() || c == '-' || c == '_' || c == '.' {
+                    c
+                } else {
+                    '_'
+                }
+            })
+            .collect()
+    };
+    format!(
+        "{}-rev{}-fatigue.pdf",
+        clean(&r.project.reference),
+        clean(&r.project.revision)
+    )
+}
+
+/// Days since 1970-01-01 of a civil date (proleptic Gregorian; common practice).
+fn days_from_civil(y: i64, m: i64, d: i64) -> i64 {
+    let y = if m <= 2 { y - 1 } else { y };
+    let era = if y >= 0 { y } else { y - 399 } / 400;
+    let yoe = y - era * 400;
+    let mp = (m + 9) % 12;
+    let doy = (153 * mp + 2) / 5 + d - 1;
+    let doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
+    era * 146097 + doe - 719468
+}
+
+/// The creation time written into the PDF: SOURCE_DATE_EPOCH when set, else the
+/// project date at 00:00 UTC. Never the clock, so two runs give the same bytes.
+pub fn creation_timestamp(r: &Results) -> i64 {
+    if let Some(t) = std::env::var("SOURCE_DATE_EPOCH")
+        .ok()
+        .and_then(|s| s.trim().parse::<i64>().ok())
+    {
+        return t;
+    }
+    let p: Vec<i64> = r
+        .project
+        .date
+        .split('-')
+        .filter_map(|x| x.parse().ok())
+        .collect();
+    match p.as_slice() {
+        [y, m, d] => days_from_civil(*y, *m, *d) * 86_400,
+        _ => 0,
+    }
+}
+
+/// Everything the templates see: the results model as `r`, plus file names of plots.
+pub fn template_context(r: &Results, plot_files: &PlotFiles) -> Value {
+    json!({
+        "r": r,
+        "plots": plot_files,
+        "meta": {
+            "short_hash": &r.input.sha256[..r.input.sha256.len().min(12)],
+            "typst_version": TYPST_VERSION,
+            "detail_count": r.details.len(),
+        },
+    })
+}
+
+/// Plot file names, by detail index and component.
+#[derive(Debug, Clone, Default, serde::Serialize)]
+pub struct PlotFiles {
+    pub utilisation: String,
+    /// details[i] -> one entry per component, in the order of the results.
+    pub details: Vec<Vec<ComponentPlots>>,
+}
+
+#[derive(Debug, Clone, Default, serde::Serialize)]
+pub struct ComponentPlots {
+    pub sn: String,
+    /// One (histogram, matrix) pair per counted record of the component.
+    pub counted: Vec<CountedPlots>,
+}
+
+#[derive(Debug, Clone, Default, serde::Serialize)]
+pub struct CountedPlots {
+    pub histogram: String,
+    pub matrix: String,
+}
+
+/// Render plots, templates and the echoed project file into build files.
+pub fn build_files(r: &Results, template_dir: Option<&Path>) -> Result<BuildFiles, Error> {
+    let mut files: Vec<(String, Vec<u8>)> = Vec::new();
+    let mut pf = PlotFiles {
+        utilisation: "plots/utilisation.svg".into(),
+        details: Vec::with_capacity(r.details.len()),
+    };
+    files.push((
+        pf.utilisation.clone(),
+        plots::utilisation_chart(&r.details).into_bytes(),
+    ));
+    for (i, d) in r.details.iter().enumerate() {
+        let mut comps = Vec::new();
+        for c in &d.components {
+            let sn = format!("plots/d{i:05}-{}-sn.svg", c.component);
+            files.push((
+                sn.clone(),
+                plots::sn_diagram(c, r.basis.design_life_years).into_bytes(),
+            ));
+            let mut counted = Vec::new();
+            for (k, rec) in c.counted.iter().enumerate() {
+                let h = format!("plots/d{i:05}-{}-rec{k}-hist.svg", c.component);
+                let m = format!("plots/d{i:05}-{}-rec{k}-matrix.svg", c.component);
+                files.push((h.clone(), plots::histogram(rec).into_bytes()));
+                files.push((m.clone(), plots::matrix_heatmap(rec).into_bytes()));
+                counted.push(CountedPlots {
+                    histogram: h,
+                    matrix: m,
+                });
+            }
+            comps.push(ComponentPlots { sn, counted });
+        }
+        pf.details.push(comps);
+    }
+    let ctx = template_context(r, &pf);
+    let main = templates::render(&ctx, template_dir)?;
+    files.push(("main.typ".into(), main.into_bytes()));
+    files.push(("project.yaml".into(), r.input.text.clone().into_bytes()));
+    Ok(BuildFiles { files })
+}
+
+/// Produce the PDF package; returns the path written.
+pub fn write_report(r: &Results, opts: &ReportOptions) -> Result<PathBuf, Error> {
+    let tool = typst::find(opts.typst.as_deref())?;
+    let out = opts
+        .output
+        .clone()
+        .unwrap_or_else(|| PathBuf::from(default_output_name(r)));
+    let build = build_files(r, opts.templates.as_deref())?;
+    let ts = opts
+        .creation_timestamp
+        .unwrap_or_else(|| creation_timestamp(r));
+    typst::compile_to(&tool, &build, &out, ts, opts.pdf_a, opts.keep_source)?;
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn civil_days() {
+        // 2026-11-20 is 20777 days after 1970-01-01 (common practice, proleptic Gregorian)
+        assert_eq!(days_from_civil(2026, 11, 20), 20777);
+        assert_eq!(days_from_civil(1970, 1, 1), 0);
+        assert_eq!(days_from_civil(2000, 3, 1), 11017);
+    }
+}
