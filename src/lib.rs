@@ -11,8 +11,11 @@ pub mod cli;
 pub mod error;
 pub mod histories;
 pub mod input;
+pub mod rainflow;
 pub mod report;
 pub mod results;
+pub mod series;
+pub mod spectrum;
 pub mod starter;
 
 pub use error::{Error, InputError, InputErrorKind};

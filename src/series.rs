@@ -1,0 +1,548 @@
+//! Streaming reading of stress or strain time series from CSV files.
+//!
+//! The file is never loaded whole: records are read one at a time into a
+//! reused [`csv::ByteRecord`], converted to MPa and handed on in small
+//! chunks, so a file of any length is counted in bounded memory.
+
+use crate::rainflow::{CountStats, Cycle, GateError, RainflowCounter, ResidueMode};
+use crate::spectrum::{MatrixCell, RangeBin, Spectrum, SpectrumError, SpectrumSpec};
+use serde::Serialize;
+use std::fmt;
+use std::fs::File;
+use std::io::BufReader;
+use std::path::{Path, PathBuf};
+
+/// Samples converted per chunk handed to the counter.
+const CHUNK: usize = 4096;
+
+/// Which column holds the signal.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub enum ColumnRef {
+    /// By header name (needs `has_header`); matched after trimming blanks.
+    Name(String),
+    /// By position, 1-based.
+    Index(usize),
+}
+
+impl fmt::Display for ColumnRef {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ColumnRef::Name(n) => write!(f, "'{n}'"),
+            ColumnRef::Index(i) => write!(f, "{i}"),
+        }
+    }
+}
+
+/// What the values are.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub enum SeriesUnit {
+    /// Stress in MPa.
+    Mpa,
+    /// Strain in µε, turned into stress with Young's modulus.
+    Microstrain {
+        /// Young's modulus, MPa (210000 for steel, common practice).
+        modulus_mpa: f64,
+    },
+}
+
+/// A time series to read.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SeriesSpec {
+    /// CSV file (comma separated; blanks around fields are ignored).
+    pub path: PathBuf,
+    /// Column holding the signal.
+    pub column: ColumnRef,
+    /// Whether the first line holds column names.
+    pub has_header: bool,
+    /// What the values are.
+    pub unit: SeriesUnit,
+    /// Factor applied to every value (1.0 for none).
+    pub scale: f64,
+}
+
+impl SeriesSpec {
+    /// Factor from file value to MPa.
+    pub fn factor_to_mpa(&self) -> f64 {
+        match self.unit {
+            // σ = value · scale
+            SeriesUnit::Mpa => self.scale,
+            // σ = E·ε with ε = value·1e-6 (Hooke's law, common practice)
+            SeriesUnit::Microstrain { modulus_mpa } => 1e-6 * modulus_mpa * self.scale,
+        }
+    }
+}
+
+/// Why a time series could not be read or counted.
+#[derive(Debug, thiserror::Error)]
+pub enum SeriesError {
+    /// The file cannot be opened.
+    #[error("cannot open time series file {path}: {source}")]
+    Open {
+        /// File.
+        path: PathBuf,
+        /// Cause.
+        source: std::io::Error,
+    },
+    /// The file could not be read or parsed as CSV.
+    #[error("cannot read time series file {path}{}: {source}", line_suffix(*line))]
+    Read {
+        /// File.
+        path: PathBuf,
+        /// Line where reading failed, when known.
+        line: Option<u64>,
+        /// Cause.
+        source: csv::Error,
+    },
+    /// No data row at all.
+    #[error("time series file {path} holds no samples")]
+    Empty {
+        /// File.
+        path: PathBuf,
+    },
+    /// A single data row.
+    #[error(
+        "time series file {path} holds a single sample; at least two are needed to count cycles"
+    )]
+    TooShort {
+        /// File.
+        path: PathBuf,
+        /// Samples found.
+        samples: u64,
+    },
+    /// A cell that is not a number.
+    #[error("time series file {path}, line {line}, column {column}: '{text}' is not a number")]
+    NotNumeric {
+        /// File.
+        path: PathBuf,
+        /// 1-based line in the file.
+        line: u64,
+        /// Column, as named by the user (and its header name, if any).
+        column: String,
+        /// Offending cell text.
+        text: String,
+    },
+    /// NaN or infinite value.
+    #[error(
+        "time series file {path}, line {line}, column {column}: '{text}' is not a finite number"
+    )]
+    NonFinite {
+        /// File.
+        path: PathBuf,
+        /// 1-based line in the file.
+        line: u64,
+        /// Column, as named by the user (and its header name, if any).
+        column: String,
+        /// Offending cell text.
+        text: String,
+    },
+    /// A row too short to hold the column.
+    #[error(
+        "time series file {path}, line {line}: no column {column} (the row has {fields} fields)"
+    )]
+    ShortRow {
+        /// File.
+        path: PathBuf,
+        /// 1-based line in the file.
+        line: u64,
+        /// Column, as named by the user (and its header name, if any).
+        column: String,
+        /// Fields in the row.
+        fields: usize,
+    },
+    /// No column of that name in the header.
+    #[error(
+        "time series file {path} has no column named '{name}'; columns present: {}",
+        list_columns(available)
+    )]
+    NoSuchColumn {
+        /// File.
+        path: PathBuf,
+        /// Name asked for.
+        name: String,
+        /// Header names found.
+        available: Vec<String>,
+    },
+    /// Column index past the last column.
+    #[error("time series file {path}: column index {index} is out of range; the first row has {columns} column(s), numbered from 1")]
+    ColumnOutOfRange {
+        /// File.
+        path: PathBuf,
+        /// Index asked for (1-based).
+        index: usize,
+        /// Columns in the first row.
+        columns: usize,
+    },
+    /// The request itself is wrong.
+    #[error("invalid time series request: {0}")]
+    Invalid(String),
+    /// Bad hysteresis gate.
+    #[error(transparent)]
+    Gate(#[from] GateError),
+    /// Bad binning rule.
+    #[error(transparent)]
+    Spectrum(#[from] SpectrumError),
+}
+
+fn line_suffix(line: Option<u64>) -> String {
+    match line {
+        Some(l) => format!(" at line {l}"),
+        None => String::new(),
+    }
+}
+
+fn list_columns(cols: &[String]) -> String {
+    if cols.is_empty() {
+        "none".to_string()
+    } else {
+        cols.iter()
+            .map(|c| format!("'{c}'"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+}
+
+/// Facts about a series that was streamed.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct SeriesInfo {
+    /// Samples read.
+    pub samples: u64,
+    /// Smallest stress, MPa.
+    pub min_mpa: f64,
+    /// Largest stress, MPa.
+    pub max_mpa: f64,
+}
+
+/// How to count and bin a series.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct CountOptions {
+    /// Hysteresis gate, MPa (0 for none).
+    pub gate_mpa: f64,
+    /// How the residue is counted.
+    pub mode: ResidueMode,
+    /// Binning of the range histogram and range-mean matrix.
+    pub bins: SpectrumSpec,
+}
+
+/// A counted and binned series.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CountedSeries {
+    /// Counter totals (samples, reversals, cycles, extremes in MPa).
+    pub stats: CountStats,
+    /// Range histogram (occupied bins, by increasing range).
+    pub histogram: Vec<RangeBin>,
+    /// Range-mean matrix (occupied cells, by range then mean).
+    pub matrix: Vec<MatrixCell>,
+    /// Cycles counted, half cycles as 0.5.
+    pub total_cycles: f64,
+    /// Full cycles counted.
+    pub full_cycles: u64,
+    /// Half cycles counted.
+    pub half_cycles: u64,
+    /// Largest range counted, MPa.
+    pub max_range_mpa: f64,
+    /// Final range bin width, MPa.
+    pub range_width_mpa: f64,
+    /// Final mean bin width, MPa.
+    pub mean_width_mpa: f64,
+    /// Every sample had the same value (then there are no cycles).
+    pub constant: bool,
+    /// Mean of the samples, MPa.
+    pub mean_mpa: f64,
+    /// Population standard deviation of the samples, MPa.
+    pub std_dev_mpa: f64,
+}
+
+/// Running mean and variance (Welford's algorithm, common practice).
+#[derive(Clone, Copy, Debug, Default)]
+struct Moments {
+    n: f64,
+    mean: f64,
+    m2: f64,
+}
+
+impl Moments {
+    fn add(&mut self, x: f64) {
+        // Welford: δ = x − mean; mean += δ/n; M2 += δ·(x − mean)
+        self.n += 1.0;
+        let d = x - self.mean;
+        self.mean += d / self.n;
+        self.m2 += d * (x - self.mean);
+    }
+
+    fn std_dev(&self) -> f64 {
+        if self.n > 0.0 {
+            (self.m2 / self.n).sqrt()
+        } else {
+            0.0
+        }
+    }
+}
+
+/// Resolved column and its label for messages.
+struct Column {
+    /// 0-based position.
+    pos: usize,
+    label: String,
+}
+
+fn open(spec: &SeriesSpec) -> Result<csv::Reader<BufReader<File>>, SeriesError> {
+    let file = File::open(&spec.path).map_err(|source| SeriesError::Open {
+        path: spec.path.clone(),
+        source,
+    })?;
+    Ok(csv::ReaderBuilder::new()
+        .has_headers(spec.has_header)
+        .flexible(true)
+        .buffer_capacity(1 << 16)
+        .from_reader(BufReader::with_capacity(1 << 16, file)))
+}
+
+/// 1-based line on which the record at `pos` starts.
+///
+/// The csv reader's own line count lags one line behind on files with CRLF
+/// line ends (rust-csv issue #395), so on this error path the file is read
+/// once more up to the record's byte offset and its newlines are counted.
+/// The offset points either at the record's first byte or at the `\n` of
+/// the CRLF before it, so the newlines among the first `offset + 1` bytes
+/// are the lines before the record in both cases.
+fn record_line(path: &Path, pos: &csv::Position) -> u64 {
+    let count = || -> std::io::Result<u64> {
+        use std::io::Read;
+        let mut f = BufReader::new(File::open(path)?).take(pos.byte() + 1);
+        let mut buf = vec![0u8; 1 << 16];
+        let mut newlines = 0u64;
+        loop {
+            let k = f.read(&mut buf)?;
+            if k == 0 {
+                break;
+            }
+            newlines += buf[..k].iter().filter(|&&b| b == b'\n').count() as u64;
+        }
+        Ok(newlines + 1)
+    };
+    count().unwrap_or(pos.line())
+}
+
+fn read_err(path: &Path, e: csv::Error) -> SeriesError {
+    let line = e.position().map(|p| record_line(path, p));
+    SeriesError::Read {
+        path: path.to_path_buf(),
+        line,
+        source: e,
+    }
+}
+
+fn resolve(
+    spec: &SeriesSpec,
+    rdr: &mut csv::Reader<BufReader<File>>,
+    first: Option<&csv::ByteRecord>,
+) -> Result<Column, SeriesError> {
+    let headers: Vec<String> = if spec.has_header {
+        rdr.byte_headers()
+            .map_err(|e| read_err(&spec.path, e))?
+            .iter()
+            .map(|h| String::from_utf8_lossy(h.trim_ascii()).into_owned())
+            .collect()
+    } else {
+        Vec::new()
+    };
+    match &spec.column {
+        ColumnRef::Name(name) => {
+            if !spec.has_header {
+                return Err(SeriesError::Invalid(format!(
+                    "column '{name}' is chosen by name but the file is read without a header line"
+                )));
+            }
+            let want = name.trim();
+            match headers.iter().position(|h| h == want) {
+                Some(pos) => Ok(Column {
+                    pos,
+                    label: format!("'{want}'"),
+                }),
+                None => Err(SeriesError::NoSuchColumn {
+                    path: spec.path.clone(),
+                    name: name.clone(),
+                    available: headers,
+                }),
+            }
+        }
+        ColumnRef::Index(i) => {
+            if *i == 0 {
+                return Err(SeriesError::Invalid(
+                    "column index is 1-based; 0 does not name a column".to_string(),
+                ));
+            }
+            let columns = if spec.has_header {
+                headers.len()
+            } else {
+                first.map_or(0, |r| r.len())
+            };
+            if *i > columns {
+                return Err(SeriesError::ColumnOutOfRange {
+                    path: spec.path.clone(),
+                    index: *i,
+                    columns,
+                });
+            }
+            let label = match headers.get(i - 1) {
+                Some(h) if !h.is_empty() => format!("{i} ('{h}')"),
+                _ => format!("{i}"),
+            };
+            Ok(Column { pos: i - 1, label })
+        }
+    }
+}
+
+/// Parse one cell, blanks around it ignored; `None` if not a number.
+/// (Trimming here rather than in the csv reader, whose trimming copies
+/// every record.)
+#[inline]
+fn parse_cell(bytes: &[u8]) -> Option<f64> {
+    std::str::from_utf8(bytes.trim_ascii())
+        .ok()?
+        .parse::<f64>()
+        .ok()
+}
+
+/// Stream the stress values of a series, in MPa, in chunks of a few
+/// thousand samples. `f` sees every sample exactly once, in order.
+///
+/// Errors: the file cannot be opened or read, a cell is not a finite
+/// number, the column does not exist, or the file holds fewer than two
+/// samples (checked at the end, after `f` has seen what there was).
+pub fn stream_series<F: FnMut(&[f64])>(
+    spec: &SeriesSpec,
+    mut f: F,
+) -> Result<SeriesInfo, SeriesError> {
+    let factor = spec.factor_to_mpa();
+    if !factor.is_finite() || factor == 0.0 {
+        return Err(SeriesError::Invalid(format!(
+            "the factor from file values to MPa must be finite and non-zero, got {factor} (scale {}, unit {:?})",
+            spec.scale, spec.unit
+        )));
+    }
+    let mut rdr = open(spec)?;
+    let mut rec = csv::ByteRecord::new();
+    let have_first = rdr
+        .read_byte_record(&mut rec)
+        .map_err(|e| read_err(&spec.path, e))?;
+    if !have_first {
+        return Err(SeriesError::Empty {
+            path: spec.path.clone(),
+        });
+    }
+    let col = resolve(spec, &mut rdr, Some(&rec))?;
+    let mut buf = vec![0.0f64; CHUNK];
+    let mut n = 0usize;
+    let mut samples = 0u64;
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    loop {
+        let line = || rec.position().map_or(0, |p| record_line(&spec.path, p));
+        let Some(cell) = rec.get(col.pos) else {
+            return Err(SeriesError::ShortRow {
+                path: spec.path.clone(),
+                line: line(),
+                column: col.label.clone(),
+                fields: rec.len(),
+            });
+        };
+        let v = match parse_cell(cell) {
+            Some(v) if v.is_finite() => v * factor,
+            Some(_) => {
+                return Err(SeriesError::NonFinite {
+                    path: spec.path.clone(),
+                    line: line(),
+                    column: col.label.clone(),
+                    text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
+                })
+            }
+            None => {
+                return Err(SeriesError::NotNumeric {
+                    path: spec.path.clone(),
+                    line: line(),
+                    column: col.label.clone(),
+                    text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
+                })
+            }
+        };
+        if !v.is_finite() {
+            // finite value overflowing once scaled
+            return Err(SeriesError::NonFinite {
+                path: spec.path.clone(),
+                line: line(),
+                column: col.label.clone(),
+                text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
+            });
+        }
+        lo = lo.min(v);
+        hi = hi.max(v);
+        buf[n] = v;
+        n += 1;
+        samples += 1;
+        if n == CHUNK {
+            f(&buf);
+            n = 0;
+        }
+        if !rdr
+            .read_byte_record(&mut rec)
+            .map_err(|e| read_err(&spec.path, e))?
+        {
+            break;
+        }
+    }
+    if n > 0 {
+        f(&buf[..n]);
+    }
+    if samples < 2 {
+        return Err(SeriesError::TooShort {
+            path: spec.path.clone(),
+            samples,
+        });
+    }
+    Ok(SeriesInfo {
+        samples,
+        min_mpa: lo,
+        max_mpa: hi,
+    })
+}
+
+/// Rainflow count a series, handing each cycle (MPa) to `sink`.
+pub fn count_series_with<F: FnMut(Cycle)>(
+    spec: &SeriesSpec,
+    gate_mpa: f64,
+    mode: ResidueMode,
+    sink: &mut F,
+) -> Result<CountStats, SeriesError> {
+    let mut counter = RainflowCounter::try_new(gate_mpa)?;
+    stream_series(spec, |xs| counter.push_slice(xs, sink))?;
+    Ok(counter.finish(mode, sink))
+}
+
+/// Rainflow count and bin a series.
+pub fn count_series(spec: &SeriesSpec, opts: &CountOptions) -> Result<CountedSeries, SeriesError> {
+    let mut spectrum = Spectrum::new(opts.bins)?;
+    let mut counter = RainflowCounter::try_new(opts.gate_mpa)?;
+    let mut moments = Moments::default();
+    let mut sink = |c: Cycle| spectrum.add(&c);
+    stream_series(spec, |xs| {
+        for &x in xs {
+            moments.add(x);
+        }
+        counter.push_slice(xs, &mut sink);
+    })?;
+    let stats = counter.finish(opts.mode, &mut sink);
+    Ok(CountedSeries {
+        stats,
+        histogram: spectrum.histogram(),
+        matrix: spectrum.matrix(),
+        total_cycles: stats.total_cycles(),
+        full_cycles: stats.full_cycles,
+        half_cycles: stats.half_cycles,
+        max_range_mpa: spectrum.max_range_mpa(),
+        range_width_mpa: spectrum.range_width_mpa(),
+        mean_width_mpa: spectrum.mean_width_mpa(),
+        constant: stats.min == stats.max,
+        mean_mpa: moments.mean,
+        std_dev_mpa: moments.std_dev(),
+    })
+}
