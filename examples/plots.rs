@@ -94,7 +94,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .chunks(1)
         .filter(|c| c[0].range_lo_mpa % 20.0 == 0.0 && c[0].mean_lo_mpa % 20.0 == 0.0)
         .map(|c| {
-            let mut m = c[0].clone();
+            let mut m = c[0];
             m.range_hi_mpa = m.range_lo_mpa + 20.0;
             m.mean_hi_mpa = m.mean_lo_mpa + 20.0;
             m.cycles *= 4.0;

@@ -37,6 +37,8 @@ pub enum Command {
     Assess(AssessArgs),
     /// Assess a project and write the PDF calculation package (needs typst).
     Report(ReportArgs),
+    /// Rainflow-count a stress or strain time series (CSV) into a range-mean spectrum.
+    Count(CountArgs),
     /// Check a project file without assessing it.
     Lint {
         /// Project file (YAML).
@@ -88,6 +90,67 @@ pub struct ReportArgs {
     /// The typst program [default: `typst` on PATH].
     #[arg(long, env = "SEAMLIFE_TYPST", value_name = "PATH")]
     pub typst: Option<PathBuf>,
+}
+
+#[derive(clap::ValueEnum, Clone, Copy, Debug)]
+pub enum UnitArg {
+    /// Stress in MPa.
+    Mpa,
+    /// Strain in µε (needs --modulus-mpa).
+    Microstrain,
+}
+
+#[derive(clap::ValueEnum, Clone, Copy, Debug)]
+pub enum ResidueArg {
+    /// The record repeats in service: close the residue by re-feeding it once.
+    Repeated,
+    /// Count the residue as half cycles (ASTM E1049-85 as written).
+    HalfCycles,
+}
+
+#[derive(Args, Debug)]
+pub struct CountArgs {
+    /// Time-series file (CSV, comma separated).
+    pub file: PathBuf,
+    /// Column: header name, or 1-based column number.
+    #[arg(long)]
+    pub column: String,
+    /// The first line holds data, not column names.
+    #[arg(long)]
+    pub no_header: bool,
+    /// What the values are.
+    #[arg(long, value_enum, default_value = "mpa")]
+    pub unit: UnitArg,
+    /// Young's modulus for strain records, MPa (e.g. 210000 for steel).
+    #[arg(long)]
+    pub modulus_mpa: Option<f64>,
+    /// Factor applied to every value.
+    #[arg(long, default_value_t = 1.0)]
+    pub scale: f64,
+    /// Hysteresis gate, MPa: smaller ranges are removed before counting.
+    #[arg(long, default_value_t = 0.0)]
+    pub gate_mpa: f64,
+    /// Residue handling.
+    #[arg(long, value_enum, default_value = "repeated")]
+    pub residue: ResidueArg,
+    /// Range bin width, MPa.
+    #[arg(long, conflicts_with = "bins")]
+    pub bin_width_mpa: Option<f64>,
+    /// Largest number of range bins (widths are powers of two in MPa) [default: 64].
+    #[arg(long)]
+    pub bins: Option<usize>,
+    /// Largest number of mean bins.
+    #[arg(long, default_value_t = 16)]
+    pub mean_bins: usize,
+    /// Write the spectrum CSV here instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Also write the range histogram as SVG.
+    #[arg(long, value_name = "FILE")]
+    pub svg: Option<PathBuf>,
+    /// Also write the range-mean matrix as an SVG heat map.
+    #[arg(long, value_name = "FILE")]
+    pub matrix_svg: Option<PathBuf>,
 }
 
 /// Parse arguments, run, print errors, and return the process exit code.
@@ -144,6 +207,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
     match &cli.command {
         Command::Assess(a) => assess(a, &library),
         Command::Report(a) => report(a, &library),
+        Command::Count(a) => count(a),
         Command::Lint { file } => lint(file, &library),
         Command::Classes { family } => classes(family.as_deref(), &library),
         Command::New { dir } => new_project(dir, &library),
@@ -399,6 +463,160 @@ fn report(a: &ReportArgs, library: &Library) -> Result<i32, Error> {
     );
     println!("{CAUTION_LINE}");
     Ok(exit_code_for(&results))
+}
+
+fn count(a: &CountArgs) -> Result<i32, Error> {
+    use crate::error::{InputError, InputErrorKind, Location};
+    use crate::input::SeriesUnitInput;
+    let bad = |msg: String, hint: &str| {
+        Error::Input(
+            InputError::new(InputErrorKind::InvalidValue, Location::file(&a.file), msg).hint(hint),
+        )
+    };
+    let unit = match (a.unit, a.modulus_mpa) {
+        (UnitArg::Mpa, _) => crate::series::SeriesUnit::Mpa,
+        (UnitArg::Microstrain, Some(e)) if e.is_finite() && e > 0.0 => {
+            crate::series::SeriesUnit::Microstrain { modulus_mpa: e }
+        }
+        (UnitArg::Microstrain, _) => {
+            return Err(bad(
+                "a strain record needs a positive --modulus-mpa".into(),
+                "e.g. --modulus-mpa 210000 for steel",
+            ))
+        }
+    };
+    if !(a.scale.is_finite() && a.scale > 0.0) {
+        return Err(bad(
+            format!("--scale must be positive, got {}", a.scale),
+            "give a positive factor",
+        ));
+    }
+    if !(a.gate_mpa.is_finite() && a.gate_mpa >= 0.0) {
+        return Err(bad(
+            format!("--gate-mpa must be zero or positive, got {}", a.gate_mpa),
+            "give 0 for no gate",
+        ));
+    }
+    let column = match a.column.parse::<usize>() {
+        Ok(0) => {
+            return Err(bad(
+                "column numbers start at 1".into(),
+                "use 1 for the first column",
+            ))
+        }
+        Ok(i) => crate::series::ColumnRef::Index(i),
+        Err(_) => crate::series::ColumnRef::Name(a.column.clone()),
+    };
+    let spec = crate::series::SeriesSpec {
+        path: a.file.clone(),
+        column,
+        has_header: !a.no_header,
+        unit,
+        scale: a.scale,
+    };
+    let mode = match a.residue {
+        ResidueArg::Repeated => crate::rainflow::ResidueMode::Repeated,
+        ResidueArg::HalfCycles => crate::rainflow::ResidueMode::HalfCycles,
+    };
+    let range = match (a.bin_width_mpa, a.bins) {
+        (Some(w), _) => crate::spectrum::BinRule::Width(w),
+        (None, Some(n)) => crate::spectrum::BinRule::MaxBins(n),
+        (None, None) => {
+            crate::spectrum::BinRule::MaxBins(crate::histories::DEFAULT_SERIES_BINS as usize)
+        }
+    };
+    let opts = crate::series::CountOptions {
+        gate_mpa: a.gate_mpa,
+        mode,
+        bins: crate::spectrum::SpectrumSpec {
+            range,
+            mean: crate::spectrum::BinRule::MaxBins(a.mean_bins),
+        },
+    };
+    let cs = crate::series::count_series(&spec, &opts).map_err(|e| {
+        Error::Input(
+            InputError::new(
+                InputErrorKind::Series,
+                Location::file(&a.file),
+                e.to_string(),
+            )
+            .hint(crate::histories::series_hint(&e)),
+        )
+    })?;
+    let rec = crate::histories::counted_record(
+        cs,
+        crate::histories::RecordLabels {
+            event: "record".into(),
+            file: a
+                .file
+                .file_name()
+                .map(|f| f.to_string_lossy().into_owned())
+                .unwrap_or_default(),
+            column: a.column.clone(),
+            unit: match a.unit {
+                UnitArg::Mpa => SeriesUnitInput::Mpa,
+                UnitArg::Microstrain => SeriesUnitInput::Microstrain,
+            },
+            scale: a.scale,
+            modulus_mpa: a.modulus_mpa,
+            gate_mpa: a.gate_mpa,
+            mode,
+            repeats_per_year: 1.0,
+        },
+    );
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
+    w.write_record([
+        "range_mpa",
+        "mean_mpa",
+        "cycles",
+        "range_lo_mpa",
+        "range_hi_mpa",
+        "mean_lo_mpa",
+        "mean_hi_mpa",
+    ])
+    .map_err(e)?;
+    for c in &rec.matrix {
+        w.write_record([
+            format!("{}", c.max_range_mpa),
+            format!("{}", c.mean_mpa),
+            format!("{}", c.cycles),
+            format!("{}", c.range_lo_mpa),
+            format!("{}", c.range_hi_mpa),
+            format!("{}", c.mean_lo_mpa),
+            format!("{}", c.mean_hi_mpa),
+        ])
+        .map_err(e)?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| Error::Internal(format!("csv: {e}")))?;
+    if let Some(p) = &a.svg {
+        write_atomic(p, crate::report::plots::histogram(&rec).as_bytes())?;
+    }
+    if let Some(p) = &a.matrix_svg {
+        write_atomic(p, crate::report::plots::matrix_heatmap(&rec).as_bytes())?;
+    }
+    match &a.output {
+        Some(p) => write_atomic(p, &bytes)?,
+        None => {
+            let _ = std::io::stdout().lock().write_all(&bytes);
+        }
+    }
+    eprintln!(
+        "{}: {} samples, {} reversals, {} full and {} half cycles ({} residue), gate {} MPa, range bins {} MPa, mean bins {} MPa{}",
+        a.file.display(),
+        rec.samples,
+        rec.reversals,
+        rec.full_cycles,
+        rec.half_cycles,
+        rec.residue,
+        rec.gate_mpa,
+        rec.bin_width_mpa,
+        rec.mean_bin_width_mpa,
+        if rec.constant { "; the signal is constant: no cycles, no damage" } else { "" }
+    );
+    Ok(EXIT_PASS)
 }
 
 fn lint(file: &Path, library: &Library) -> Result<i32, Error> {

@@ -3,10 +3,16 @@
 //! cycles per year. The assessment reads only these spectra.
 
 use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
 
-use crate::error::Error;
-use crate::input::{ComponentInput, Project, YamlPath};
+use crate::error::{Error, InputError, InputErrorKind, Location};
+use crate::input::{
+    ColumnSelector, ComponentInput, LoadEvent, Project, ResidueInput, SeriesInput, SeriesUnitInput,
+    YamlPath,
+};
 use crate::results::{CountedRecord, SeriesFileInfo};
+use crate::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
+use crate::spectrum::{BinRule, SpectrumSpec};
 
 /// One stress block with cycles per year.
 #[derive(Debug, Clone, PartialEq)]
@@ -49,8 +55,10 @@ pub struct ProjectHistories {
     pub series_files: Vec<SeriesFileInfo>,
 }
 
-/// Default number of range bins for a counted series when none is given.
+/// Default largest number of range bins for a counted series.
 pub const DEFAULT_SERIES_BINS: u32 = 64;
+/// Default largest number of mean bins of the range-mean matrix.
+pub const DEFAULT_MEAN_BINS: u32 = 16;
 
 /// Build the spectra of every detail. Series files are counted once each, however
 /// many details refer to the same file, column and counting options.
@@ -90,20 +98,11 @@ fn component(
     project: &Project,
     c: &ComponentInput,
     path: &YamlPath,
-    _cache: &mut BTreeMap<String, CountedRecord>,
-    _files: &mut BTreeMap<String, SeriesFileInfo>,
+    cache: &mut BTreeMap<String, CountedRecord>,
+    files: &mut BTreeMap<String, SeriesFileInfo>,
 ) -> Result<ComponentHistory, Error> {
     let mut h = ComponentHistory::default();
     for (k, ev) in c.loading.iter().enumerate() {
-        if ev.series.is_some() {
-            let p = path.key("loading").index(k).key("series");
-            return Err(crate::error::InputError::new(
-                crate::error::InputErrorKind::Series,
-                crate::error::Location::file(&project.path),
-                format!("{p}: series loading is not supported by this build"),
-            )
-            .into());
-        }
         if let Some(blocks) = &ev.blocks {
             let per_year = ev.per_year.unwrap_or(1.0);
             for b in blocks {
@@ -125,6 +124,257 @@ fn component(
                 });
             }
         }
+        if let Some(s) = &ev.series {
+            let sp = path.key("loading").index(k).key("series");
+            let rec = counted(project, ev, s, &sp, cache, files)?;
+            for cell in &rec.matrix {
+                // Each cell is one block: its largest range and weighted mean, so every
+                // counted cycle is represented at or above its own range.
+                let r = cell.max_range_mpa;
+                if r <= 0.0 {
+                    continue;
+                }
+                h.blocks.push(SpectrumBlock {
+                    event: ev.event.clone(),
+                    origin: "counted",
+                    range_mpa: r,
+                    max_mpa: Some(cell.mean_mpa + 0.5 * r),
+                    min_mpa: Some(cell.mean_mpa - 0.5 * r),
+                    cycles_per_year: cell.cycles * rec.repeats_per_year,
+                });
+            }
+            h.counted.push(rec);
+        }
     }
     Ok(h)
+}
+
+/// Resolve a series path against the project folder, refusing one that leaves it
+/// unless explicitly allowed.
+pub fn resolve_series_path(
+    project_dir: &Path,
+    file: &str,
+    allow_outside: bool,
+    loc: &dyn Fn() -> Location,
+) -> Result<PathBuf, InputError> {
+    let joined = project_dir.join(file);
+    let canon_dir = project_dir.canonicalize().map_err(|e| {
+        InputError::new(
+            InputErrorKind::Io,
+            loc(),
+            format!("cannot resolve the project folder: {e}"),
+        )
+    })?;
+    let canon = joined.canonicalize().map_err(|e| {
+        InputError::new(
+            InputErrorKind::Io,
+            loc(),
+            format!("cannot open series file `{file}`: {e}"),
+        )
+        .hint("series paths are relative to the project file's folder")
+    })?;
+    if !allow_outside && !canon.starts_with(&canon_dir) {
+        return Err(InputError::new(
+            InputErrorKind::PathOutsideProject,
+            loc(),
+            format!("series file `{file}` lies outside the project folder"),
+        )
+        .hint("move the record into the project folder, or set `allow_outside_project: true` on this series"));
+    }
+    Ok(canon)
+}
+
+fn counted(
+    project: &Project,
+    ev: &LoadEvent,
+    s: &SeriesInput,
+    sp: &YamlPath,
+    cache: &mut BTreeMap<String, CountedRecord>,
+    files: &mut BTreeMap<String, SeriesFileInfo>,
+) -> Result<CountedRecord, Error> {
+    // Located only when there is an error to report (locating re-reads the YAML).
+    let loc =
+        || match crate::input::locate::locate(&project.text, std::slice::from_ref(&sp.key("file")))
+            [0]
+        {
+            Some((l, c)) => Location::at(&project.path, l, c),
+            None => Location::file(&project.path),
+        };
+    let path = resolve_series_path(&project.dir, &s.file, s.allow_outside_project, &loc)?;
+    let repeats_per_year = match (s.record_hours, s.hours_per_year) {
+        // record repeats per year = operating hours per year / record duration
+        (Some(rec), Some(per)) => per / rec,
+        _ => ev.per_year.unwrap_or(1.0),
+    };
+    let key = format!(
+        "{}|{:?}|{}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}",
+        path.display(),
+        s.column,
+        s.header,
+        s.unit,
+        s.modulus_mpa,
+        s.scale,
+        s.gate_mpa,
+        s.residue,
+        s.bin_width_mpa,
+        s.bins,
+        s.mean_bins
+    );
+    if let Some(rec) = cache.get(&key) {
+        let mut r = rec.clone();
+        r.event = ev.event.clone();
+        r.repeats_per_year = repeats_per_year;
+        return Ok(r);
+    }
+    let spec = SeriesSpec {
+        path: path.clone(),
+        column: match &s.column {
+            ColumnSelector::Index(i) => ColumnRef::Index(*i),
+            ColumnSelector::Name(n) => ColumnRef::Name(n.clone()),
+        },
+        has_header: s.header,
+        unit: match s.unit {
+            SeriesUnitInput::Mpa => SeriesUnit::Mpa,
+            SeriesUnitInput::Microstrain => SeriesUnit::Microstrain {
+                modulus_mpa: s.modulus_mpa.unwrap_or(0.0),
+            },
+        },
+        scale: s.scale.unwrap_or(1.0),
+    };
+    let mode = match s.residue.unwrap_or(ResidueInput::Repeated) {
+        ResidueInput::Repeated => crate::rainflow::ResidueMode::Repeated,
+        ResidueInput::HalfCycles => crate::rainflow::ResidueMode::HalfCycles,
+    };
+    let range = match (s.bin_width_mpa, s.bins) {
+        (Some(w), _) => BinRule::Width(w),
+        (None, Some(n)) => BinRule::MaxBins(n as usize),
+        (None, None) => BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
+    };
+    let opts = CountOptions {
+        gate_mpa: s.gate_mpa.unwrap_or(0.0),
+        mode,
+        bins: SpectrumSpec {
+            range,
+            mean: BinRule::MaxBins(s.mean_bins.unwrap_or(DEFAULT_MEAN_BINS) as usize),
+        },
+    };
+    let gate = opts.gate_mpa;
+    let cs = crate::series::count_series(&spec, &opts).map_err(|e| {
+        InputError::new(InputErrorKind::Series, loc(), e.to_string()).hint(series_hint(&e))
+    })?;
+    let digest = file_sha256(&path).map_err(|e| {
+        InputError::new(
+            InputErrorKind::Io,
+            loc(),
+            format!("cannot read `{}`: {e}", s.file),
+        )
+    })?;
+    files.entry(s.file.clone()).or_insert(SeriesFileInfo {
+        file: s.file.clone(),
+        sha256: digest.0,
+        bytes: digest.1,
+    });
+    let rec = counted_record(
+        cs,
+        RecordLabels {
+            event: ev.event.clone(),
+            file: s.file.clone(),
+            column: match &s.column {
+                ColumnSelector::Index(i) => format!("column {i}"),
+                ColumnSelector::Name(n) => n.clone(),
+            },
+            unit: s.unit,
+            scale: s.scale.unwrap_or(1.0),
+            modulus_mpa: s.modulus_mpa,
+            gate_mpa: gate,
+            mode,
+            repeats_per_year,
+        },
+    );
+    cache.insert(key, rec.clone());
+    Ok(rec)
+}
+
+/// How a counted record is described in the results.
+#[derive(Debug, Clone)]
+pub struct RecordLabels {
+    pub event: String,
+    pub file: String,
+    pub column: String,
+    pub unit: SeriesUnitInput,
+    pub scale: f64,
+    pub modulus_mpa: Option<f64>,
+    pub gate_mpa: f64,
+    pub mode: crate::rainflow::ResidueMode,
+    pub repeats_per_year: f64,
+}
+
+/// The results-model form of a counted series.
+pub fn counted_record(cs: crate::series::CountedSeries, l: RecordLabels) -> CountedRecord {
+    CountedRecord {
+        event: l.event,
+        file: l.file,
+        column: l.column,
+        unit: match l.unit {
+            SeriesUnitInput::Mpa => "MPa".into(),
+            SeriesUnitInput::Microstrain => "µε".into(),
+        },
+        scale: l.scale,
+        modulus_mpa: l.modulus_mpa,
+        samples: cs.stats.samples,
+        reversals: cs.stats.reversals,
+        full_cycles: cs.stats.full_cycles,
+        half_cycles: cs.stats.half_cycles,
+        min_mpa: cs.stats.min,
+        max_mpa: cs.stats.max,
+        mean_mpa: cs.mean_mpa,
+        std_dev_mpa: cs.std_dev_mpa,
+        constant: cs.constant,
+        gate_mpa: l.gate_mpa,
+        residue: match l.mode {
+            crate::rainflow::ResidueMode::Repeated => "repeated".into(),
+            crate::rainflow::ResidueMode::HalfCycles => "half-cycles".into(),
+        },
+        repeats_per_year: l.repeats_per_year,
+        bin_width_mpa: cs.range_width_mpa,
+        mean_bin_width_mpa: cs.mean_width_mpa,
+        histogram: cs.histogram,
+        matrix: cs.matrix,
+    }
+}
+
+/// SHA-256 and size of a file, read in pieces.
+pub fn file_sha256(path: &Path) -> std::io::Result<(String, u64)> {
+    use sha2::{Digest, Sha256};
+    use std::io::Read;
+    let mut f = std::fs::File::open(path)?;
+    let mut h = Sha256::new();
+    let mut buf = vec![0u8; 1 << 16];
+    let mut n = 0u64;
+    loop {
+        let k = f.read(&mut buf)?;
+        if k == 0 {
+            break;
+        }
+        n += k as u64;
+        h.update(&buf[..k]);
+    }
+    Ok((h.finalize().iter().map(|b| format!("{b:02x}")).collect(), n))
+}
+
+/// What to do about a series error.
+pub fn series_hint(e: &crate::series::SeriesError) -> String {
+    use crate::series::SeriesError as E;
+    match e {
+        E::Open { .. } => "check the path (relative to the project file) and the file permissions".into(),
+        E::Read { .. } => "the file must be comma-separated text".into(),
+        E::Empty { .. } => "the record holds no samples; check the file and `header:`".into(),
+        E::TooShort { .. } => "a record needs at least two samples to hold a cycle".into(),
+        E::NotNumeric { .. } => "clean the cell, or choose the right `column:` (and `header:` if the first line holds names)".into(),
+        E::NonFinite { .. } => "remove or repair NaN/infinite samples (gaps in a record must be filled or cut out)".into(),
+        E::ShortRow { .. } => "every row must hold the chosen column".into(),
+        E::NoSuchColumn { .. } => "choose one of the names listed, or a 1-based column number (`column:` in a project, `--column` for `seamlife count`)".into(),
+        E::ColumnOutOfRange { .. } => "column numbers start at 1".into(),
+        E::Invalid(_) | E::Gate(_) | E::Spectrum(_) => "check the series options (scale, modulus, gate, bins)".into(),
+    }
 }

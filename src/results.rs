@@ -374,24 +374,8 @@ pub struct CountedRecord {
     pub matrix: Vec<MatrixCell>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
-pub struct HistogramBin {
-    pub lo_mpa: f64,
-    pub hi_mpa: f64,
-    /// Cycles per record.
-    pub cycles: f64,
-}
-
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
-pub struct MatrixCell {
-    pub range_lo_mpa: f64,
-    pub range_hi_mpa: f64,
-    pub mean_lo_mpa: f64,
-    pub mean_hi_mpa: f64,
-    pub cycles: f64,
-    pub max_range_mpa: f64,
-    pub mean_mpa: f64,
-}
+/// Histogram bins and matrix cells are the counting stage's own serialisable types.
+pub use crate::spectrum::{MatrixCell, RangeBin as HistogramBin};
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
 pub struct CatalogueEntryUsed {

@@ -20,6 +20,13 @@ fn assess_text(name: &str, text: &str) -> (i32, String, String) {
     let dir = tempfile::tempdir().unwrap();
     let p = dir.path().join(name);
     std::fs::write(&p, text).unwrap();
+    // the demo's measured record, referenced relative to the project file
+    let rec = Path::new(env!("CARGO_MANIFEST_DIR")).join("projects/records");
+    std::fs::create_dir(dir.path().join("records")).unwrap();
+    for e in std::fs::read_dir(rec).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), dir.path().join("records").join(e.file_name())).unwrap();
+    }
     let out = seamlife()
         .current_dir(dir.path())
         .args(["assess", name])
@@ -85,7 +92,7 @@ fn demo_json_model() {
     assert_eq!(v["basis"]["gamma_ff"]["value"], 1.0);
     assert_eq!(v["basis"]["damage_limit"]["value"], 1.0);
     let details = v["details"].as_array().unwrap();
-    assert_eq!(details.len(), 8);
+    assert_eq!(details.len(), 9);
     for d in details {
         for key in [
             "id",
@@ -129,7 +136,7 @@ fn csv_output_and_output_file() {
         .unwrap();
     assert_eq!(st.status.code(), Some(1));
     let text = std::fs::read_to_string(&out).unwrap();
-    assert_eq!(text.lines().count(), 9);
+    assert_eq!(text.lines().count(), 10);
     assert!(text.starts_with("id,location,status,utilisation"));
     // no temporary files left beside the output
     let names: Vec<_> = std::fs::read_dir(dir.path())

@@ -150,6 +150,45 @@ fn demo_package_matches_results() {
 }
 
 #[test]
+fn measured_record_appears_in_the_package() {
+    let dir = tempfile::tempdir().unwrap();
+    let pdf = dir.path().join("p.pdf");
+    let (code, _, err) = render(
+        &root().join("projects/kestrel-bay-runway.yaml"),
+        &pdf,
+        &["--keep-source"],
+    );
+    assert!(code <= 1, "{err}");
+    let text = squash(&pages(&pdf).join("\n"));
+    let v = json_results(&root().join("projects/kestrel-bay-runway.yaml"));
+    let d = v["details"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["id"] == "RG3-B02")
+        .unwrap();
+    let rec = &d["components"][0]["counted"][0];
+    assert!(text.contains("Counted record: measured operation (gauge SG-4)"));
+    assert!(text.contains(&format!(
+        "rainflow (ASTM E1049-85) gave {} full and {} half cycles",
+        rec["full_cycles"], rec["half_cycles"]
+    )));
+    assert!(text.contains("residue handling repeated"));
+    assert!(text.contains("Range histogram of the counted record"));
+    assert!(text.contains("Range-mean matrix of the counted record"));
+    // both figures of the record were built and embedded
+    let plots = dir.path().join("p-typst/plots");
+    let names: Vec<String> = std::fs::read_dir(&plots)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(names.iter().any(|n| n.ends_with("-rec0-hist.svg")));
+    assert!(names.iter().any(|n| n.ends_with("-rec0-matrix.svg")));
+    let main = std::fs::read_to_string(dir.path().join("p-typst/main.typ")).unwrap();
+    assert!(main.contains("-rec0-hist.svg") && main.contains("-rec0-matrix.svg"));
+}
+
+#[test]
 fn iiw_demo_package_matches_results() {
     check_package(&root().join("projects/kestrel-bay-trolley-frame.yaml"));
 }

@@ -834,6 +834,14 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
             None,
         );
     }
+    if s.mean_bins.is_some_and(|n| n < 2) {
+        c.push(
+            sp.key("mean_bins"),
+            InputErrorKind::InvalidValue,
+            "mean_bins must be at least 2 (bins sit on both sides of zero mean)".into(),
+            None,
+        );
+    }
     if s.bins.is_some() && s.bin_width_mpa.is_some() {
         c.push(
             sp.clone(),

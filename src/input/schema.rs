@@ -221,6 +221,9 @@ pub struct SeriesInput {
     pub bin_width_mpa: Option<f64>,
     #[serde(default)]
     pub bins: Option<u32>,
+    /// Number of mean-stress bins of the range-mean matrix (at least 2).
+    #[serde(default)]
+    pub mean_bins: Option<u32>,
     /// Allow a file outside the project folder.
     #[serde(default)]
     pub allow_outside_project: bool,
