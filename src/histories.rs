@@ -359,7 +359,7 @@ pub fn file_sha256(path: &Path) -> std::io::Result<(String, u64)> {
         n += k as u64;
         h.update(&buf[..k]);
     }
-    Ok((h.finalize().iter().map(|b| format!("{b:02x}")).collect(), n))
+    Ok((crate::input::hex(&h.finalize()), n))
 }
 
 /// What to do about a series error.

@@ -244,8 +244,12 @@ pub fn parse_project(path: &Path, text: String, library: &Library) -> Result<Pro
 }
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
-    let digest = Sha256::digest(bytes);
-    digest.iter().map(|b| format!("{b:02x}")).collect()
+    hex(&Sha256::digest(bytes))
+}
+
+/// Lower-case hexadecimal of a digest.
+pub fn hex(bytes: &[u8]) -> String {
+    bytes.iter().map(|b| format!("{b:02x}")).collect()
 }
 
 /// A problem found after parsing, located by its path in the document.
