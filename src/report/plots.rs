@@ -292,12 +292,7 @@ fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPlan) -> Drawn
             path.push((s.cycles, s.range));
         }
         for piece in clip(&path) {
-            free.add_path(
-                &piece
-                    .iter()
-                    .map(|p| chart.backend_coord(p))
-                    .collect::<Vec<_>>(),
-            );
+            free.add_path(&to_px(&chart, &piece));
             chart.draw_series(std::iter::once(PathElement::new(
                 piece,
                 MID.stroke_width(2),
@@ -308,12 +303,7 @@ fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPlan) -> Drawn
     // Design curve: dashed; its cut-off: fine dots.
     let (d_main, d_tail) = curve_path(de, x_lo, x_hi);
     for piece in clip(&d_main) {
-        free.add_path(
-            &piece
-                .iter()
-                .map(|p| chart.backend_coord(p))
-                .collect::<Vec<_>>(),
-        );
+        free.add_path(&to_px(&chart, &piece));
         chart.draw_series(std::iter::once(DashedPathElement::new(
             piece,
             8,
@@ -322,12 +312,7 @@ fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPlan) -> Drawn
         )))?;
     }
     for piece in clip(&d_tail) {
-        free.add_path(
-            &piece
-                .iter()
-                .map(|p| chart.backend_coord(p))
-                .collect::<Vec<_>>(),
-        );
+        free.add_path(&to_px(&chart, &piece));
         chart.draw_series(std::iter::once(DottedPathElement::new(piece, 0, 5, |p| {
             Circle::new(p, 1, INK.filled())
         })))?;
@@ -335,24 +320,14 @@ fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPlan) -> Drawn
     // Characteristic curve: solid; its cut-off: heavier dots.
     let (c_main, c_tail) = curve_path(ch, x_lo, x_hi);
     for piece in clip(&c_main) {
-        free.add_path(
-            &piece
-                .iter()
-                .map(|p| chart.backend_coord(p))
-                .collect::<Vec<_>>(),
-        );
+        free.add_path(&to_px(&chart, &piece));
         chart.draw_series(std::iter::once(PathElement::new(
             piece,
             INK.stroke_width(2),
         )))?;
     }
     for piece in clip(&c_tail) {
-        free.add_path(
-            &piece
-                .iter()
-                .map(|p| chart.backend_coord(p))
-                .collect::<Vec<_>>(),
-        );
+        free.add_path(&to_px(&chart, &piece));
         chart.draw_series(std::iter::once(DottedPathElement::new(piece, 0, 6, |p| {
             Circle::new(p, 2, INK.filled())
         })))?;
@@ -1719,6 +1694,17 @@ fn clip_segment(p0: Pt, p1: Pt, lo: Pt, hi: Pt) -> Option<(Pt, Pt)> {
         (p0.0 + t0 * dx, p0.1 + t0 * dy),
         (p0.0 + t1 * dx, p0.1 + t1 * dy),
     ))
+}
+
+/// A path in data coordinates as backend pixels, to mark where lines run.
+fn to_px<DB: DrawingBackend, CT: CoordTranslate<From = Pt>>(
+    chart: &ChartContext<'_, DB, CT>,
+    piece: &[Pt],
+) -> Vec<(i32, i32)> {
+    piece
+        .iter()
+        .map(|p| chart.as_coord_spec().translate(p))
+        .collect()
 }
 
 #[cfg(test)]
