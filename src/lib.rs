@@ -9,14 +9,16 @@ pub mod assess;
 pub mod catalogue;
 pub mod cli;
 pub mod error;
+pub mod files;
 pub mod histories;
 pub mod input;
-pub mod rainflow;
 pub mod report;
 pub mod results;
-pub mod series;
-pub mod spectrum;
 pub mod starter;
+
+/// The signal stage's modules, also at the crate root for callers that count series
+/// without a project.
+pub use histories::{rainflow, series, spectrum};
 
 pub use error::{Error, InputError, InputErrorKind};
 

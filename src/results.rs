@@ -375,7 +375,7 @@ pub struct CountedRecord {
 }
 
 /// Histogram bins and matrix cells are the counting stage's own serialisable types.
-pub use crate::spectrum::{MatrixCell, RangeBin as HistogramBin};
+pub use crate::histories::spectrum::{MatrixCell, RangeBin as HistogramBin};
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
 pub struct CatalogueEntryUsed {

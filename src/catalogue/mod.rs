@@ -463,7 +463,7 @@ impl Library {
                 .collect();
             paths.sort();
             for p in paths {
-                let text = crate::input::read_text_limited(&p)?;
+                let text = crate::files::read_text_limited(&p)?;
                 let fam = parse_family(&text, &p)?;
                 families.insert(fam.id.clone(), fam);
             }
@@ -485,7 +485,7 @@ impl Library {
 /// Parse and check one family file.
 pub fn parse_family(text: &str, path: &Path) -> Result<Family, InputError> {
     let mut fam: Family =
-        serde_yaml::from_str(text).map_err(|e| crate::input::yaml_error(path, text, e))?;
+        serde_yaml::from_str(text).map_err(|e| crate::files::yaml_error(path, text, e))?;
     fam.check().map_err(|msg| {
         InputError::new(
             InputErrorKind::InvalidFamily,

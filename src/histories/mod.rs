@@ -2,17 +2,21 @@
 //! or measured/simulated series counted by rainflow) into a stress spectrum with
 //! cycles per year. The assessment reads only these spectra.
 
+pub mod rainflow;
+pub mod series;
+pub mod spectrum;
+
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, InputError, InputErrorKind, Location};
+use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
+use crate::histories::spectrum::{BinRule, SpectrumSpec};
 use crate::input::{
     ColumnSelector, ComponentInput, LoadEvent, Project, ResidueInput, SeriesInput, SeriesUnitInput,
     YamlPath,
 };
 use crate::results::{CountedRecord, SeriesFileInfo};
-use crate::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
-use crate::spectrum::{BinRule, SpectrumSpec};
 
 /// One stress block with cycles per year.
 #[derive(Debug, Clone, PartialEq)]
@@ -242,8 +246,8 @@ fn counted(
         scale: s.scale.unwrap_or(1.0),
     };
     let mode = match s.residue.unwrap_or(ResidueInput::Repeated) {
-        ResidueInput::Repeated => crate::rainflow::ResidueMode::Repeated,
-        ResidueInput::HalfCycles => crate::rainflow::ResidueMode::HalfCycles,
+        ResidueInput::Repeated => crate::histories::rainflow::ResidueMode::Repeated,
+        ResidueInput::HalfCycles => crate::histories::rainflow::ResidueMode::HalfCycles,
     };
     let range = match (s.bin_width_mpa, s.bins) {
         (Some(w), _) => BinRule::Width(w),
@@ -259,10 +263,10 @@ fn counted(
         },
     };
     let gate = opts.gate_mpa;
-    let cs = crate::series::count_series(&spec, &opts).map_err(|e| {
+    let cs = crate::histories::series::count_series(&spec, &opts).map_err(|e| {
         InputError::new(InputErrorKind::Series, loc(), e.to_string()).hint(series_hint(&e))
     })?;
-    let digest = file_sha256(&path).map_err(|e| {
+    let digest = crate::files::file_sha256(&path).map_err(|e| {
         InputError::new(
             InputErrorKind::Io,
             loc(),
@@ -305,12 +309,15 @@ pub struct RecordLabels {
     pub scale: f64,
     pub modulus_mpa: Option<f64>,
     pub gate_mpa: f64,
-    pub mode: crate::rainflow::ResidueMode,
+    pub mode: crate::histories::rainflow::ResidueMode,
     pub repeats_per_year: f64,
 }
 
 /// The results-model form of a counted series.
-pub fn counted_record(cs: crate::series::CountedSeries, l: RecordLabels) -> CountedRecord {
+pub fn counted_record(
+    cs: crate::histories::series::CountedSeries,
+    l: RecordLabels,
+) -> CountedRecord {
     CountedRecord {
         event: l.event,
         file: l.file,
@@ -332,8 +339,8 @@ pub fn counted_record(cs: crate::series::CountedSeries, l: RecordLabels) -> Coun
         constant: cs.constant,
         gate_mpa: l.gate_mpa,
         residue: match l.mode {
-            crate::rainflow::ResidueMode::Repeated => "repeated".into(),
-            crate::rainflow::ResidueMode::HalfCycles => "half-cycles".into(),
+            crate::histories::rainflow::ResidueMode::Repeated => "repeated".into(),
+            crate::histories::rainflow::ResidueMode::HalfCycles => "half-cycles".into(),
         },
         repeats_per_year: l.repeats_per_year,
         bin_width_mpa: cs.range_width_mpa,
@@ -343,28 +350,9 @@ pub fn counted_record(cs: crate::series::CountedSeries, l: RecordLabels) -> Coun
     }
 }
 
-/// SHA-256 and size of a file, read in pieces.
-pub fn file_sha256(path: &Path) -> std::io::Result<(String, u64)> {
-    use sha2::{Digest, Sha256};
-    use std::io::Read;
-    let mut f = std::fs::File::open(path)?;
-    let mut h = Sha256::new();
-    let mut buf = vec![0u8; 1 << 16];
-    let mut n = 0u64;
-    loop {
-        let k = f.read(&mut buf)?;
-        if k == 0 {
-            break;
-        }
-        n += k as u64;
-        h.update(&buf[..k]);
-    }
-    Ok((crate::input::hex(&h.finalize()), n))
-}
-
 /// What to do about a series error.
-pub fn series_hint(e: &crate::series::SeriesError) -> String {
-    use crate::series::SeriesError as E;
+pub fn series_hint(e: &crate::histories::series::SeriesError) -> String {
+    use crate::histories::series::SeriesError as E;
     match e {
         E::Open { .. } => "check the path (relative to the project file) and the file permissions".into(),
         E::Read { .. } => "the file must be comma-separated text".into(),

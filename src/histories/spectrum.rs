@@ -24,7 +24,7 @@
 //! Storage is a dense grid while the occupied index box is small, a hash map
 //! beyond [`DENSE_CELL_LIMIT`] cells.
 
-use crate::rainflow::Cycle;
+use crate::histories::rainflow::Cycle;
 use serde::{Deserialize, Serialize};
 use std::collections::{BTreeMap, HashMap};
 

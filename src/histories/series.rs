@@ -4,8 +4,8 @@
 //! reused [`csv::ByteRecord`], converted to MPa and handed on in small
 //! chunks, so a file of any length is counted in bounded memory.
 
-use crate::rainflow::{CountStats, Cycle, GateError, RainflowCounter, ResidueMode};
-use crate::spectrum::{MatrixCell, RangeBin, Spectrum, SpectrumError, SpectrumSpec};
+use crate::histories::rainflow::{CountStats, Cycle, GateError, RainflowCounter, ResidueMode};
+use crate::histories::spectrum::{MatrixCell, RangeBin, Spectrum, SpectrumError, SpectrumSpec};
 use serde::Serialize;
 use std::fmt;
 use std::fs::File;

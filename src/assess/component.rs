@@ -1,0 +1,419 @@
+//! One stress component of one detail: its category and corrections, the design curve,
+//! every block's effective and design range, endurance and damage, the damage by
+//! curve band, and the component's warnings.
+
+use super::corrections::{mean_stress_factor, size_correction};
+use super::curve::SnCurve;
+use super::fmt_cycles;
+use super::verify::{Checks, Prepared};
+use super::ResolvedBasis;
+use crate::catalogue::{CatalogueEntry, Component, Family, MeanStressCase};
+use crate::histories::{ComponentHistory, DetailHistory};
+use crate::input::Detail;
+use crate::results::*;
+
+/// A component with its category and corrections resolved, ready to assess.
+pub(super) struct ComponentSetup<'a> {
+    pub(super) comp: Component,
+    pub(super) category: f64,
+    pub(super) category_source: String,
+    pub(super) catalogue_category: Option<f64>,
+    pub(super) size: SizeCorrection,
+    pub(super) case_key: String,
+    pub(super) case: &'a MeanStressCase,
+    pub(super) history: &'a ComponentHistory,
+}
+
+/// Warnings and notes collected while a detail is assessed.
+#[derive(Debug, Default)]
+pub(super) struct Findings {
+    pub(super) warnings: Vec<Warning>,
+    pub(super) notes: Vec<String>,
+}
+
+impl Findings {
+    pub(super) fn warn(&mut self, code: &str, message: String) {
+        self.warnings.push(Warning {
+            code: code.into(),
+            message,
+        });
+    }
+}
+
+/// Resolve each present component's category (by hand or from the catalogue), size
+/// correction and mean-stress case.
+pub(super) fn component_setups<'a>(
+    fam: &'a Family,
+    det: &Detail,
+    entry: Option<&CatalogueEntry>,
+    hist: &'a DetailHistory,
+    found: &mut Findings,
+) -> Vec<ComponentSetup<'a>> {
+    let case_key = det
+        .mean_stress_case
+        .clone()
+        .or_else(|| entry.and_then(|e| e.mean_stress_case.clone()))
+        .unwrap_or_else(|| fam.mean_stress.default_case.clone());
+    let case = &fam.mean_stress.cases[&case_key];
+    let mut setups = Vec::new();
+    for (comp, input, h) in [
+        (Component::Normal, &det.normal, &hist.normal),
+        (Component::Shear, &det.shear, &hist.shear),
+    ] {
+        let (Some(ci), Some(h)) = (input, h) else {
+            continue;
+        };
+        let from_cat = entry.and_then(|e| e.category(comp));
+        let (category, source) = match (ci.category, from_cat) {
+            (Some(hand), Some(cat)) if hand != cat => {
+                found.warn(
+                    "category-contradicts-catalogue",
+                    format!(
+                        "{} category {hand} set by hand differs from the catalogue's {cat} for `{}`; the hand value is used",
+                        comp.as_str(),
+                        entry.map(|e| e.key.as_str()).unwrap_or("")
+                    ),
+                );
+                (hand, "hand-over-catalogue")
+            }
+            (Some(hand), Some(_)) => (hand, "catalogue"),
+            (Some(hand), None) => {
+                found.notes.push(format!(
+                    "{} category {hand} assigned by the engineer without a catalogue entry.",
+                    comp.as_str()
+                ));
+                (hand, "hand")
+            }
+            (None, Some(cat)) => (cat, "catalogue"),
+            (None, None) => (f64::NAN, "missing"),
+        };
+        setups.push(ComponentSetup {
+            comp,
+            category,
+            category_source: source.into(),
+            catalogue_category: from_cat,
+            size: size_correction(fam, det, entry, comp),
+            case_key: case_key.clone(),
+            case,
+            history: h,
+        });
+    }
+    setups
+}
+
+/// The characteristic and design curves of a component after size correction and γMf.
+struct Curves {
+    corrected: f64,
+    design_ref: f64,
+    characteristic: SnCurve,
+    design: SnCurve,
+    unit: SnCurve,
+    ca_limit_ratio: Option<f64>,
+}
+
+fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
+    let segs = fam
+        .segments(s.comp, basis.variant.as_deref())
+        .unwrap_or(&fam.curves.get(s.comp).segments);
+    let def = fam.curves.get(s.comp);
+    let corrected = s.size.factor * s.category;
+    // Design resistance ΔσC,d = ks·ΔσC/γMf (EN 1993-1-9 eq. (8.2) denominator, 7.2.2)
+    let design_ref = corrected / basis.gamma_mf.value;
+    let characteristic = SnCurve::new(segs, fam.reference_cycles, corrected);
+    let design = characteristic.scaled(1.0 / basis.gamma_mf.value);
+    let unit = characteristic.scaled(1.0 / corrected);
+    let ca_limit_ratio = def
+        .constant_amplitude_limit_knee
+        .map(|k| unit.knees[k - 1].1);
+    Curves {
+        corrected,
+        design_ref,
+        characteristic,
+        design,
+        unit,
+        ca_limit_ratio,
+    }
+}
+
+/// Every block with its mean-stress factor and design range (damage still to come);
+/// also whether the mean-stress rule changed any range, and the largest design range.
+fn block_results(
+    s: &ComponentSetup,
+    gff: f64,
+    years: f64,
+) -> (Vec<BlockResult>, Vec<(f64, f64)>, bool, f64) {
+    let mut blocks = Vec::with_capacity(s.history.blocks.len());
+    let mut loads = Vec::with_capacity(s.history.blocks.len());
+    let mut acted = false;
+    let mut max_range: f64 = 0.0;
+    for b in &s.history.blocks {
+        let f = mean_stress_factor(s.case, b.max_mpa, b.min_mpa);
+        if b.max_mpa.is_some() && (f - 1.0).abs() > 1e-15 {
+            acted = true;
+        }
+        let eff = f * b.range_mpa;
+        // Design range γFf·Δσ_eff (EN 1993-1-9 eq. (8.2) numerator)
+        let design_range = gff * eff;
+        max_range = max_range.max(gff * b.range_mpa);
+        loads.push((design_range, b.cycles_per_year));
+        let stress_ratio = match (b.max_mpa, b.min_mpa) {
+            // stress ratio R = σmin/σmax (common practice)
+            (Some(hi), Some(lo)) if hi != 0.0 => Some(lo / hi),
+            _ => None,
+        };
+        blocks.push(BlockResult {
+            event: b.event.clone(),
+            origin: b.origin.into(),
+            range_mpa: b.range_mpa,
+            max_mpa: b.max_mpa,
+            min_mpa: b.min_mpa,
+            mean_mpa: b.mean_mpa(),
+            // amplitude σa = Δσ/2 (common practice)
+            amplitude_mpa: 0.5 * b.range_mpa,
+            stress_ratio,
+            mean_stress_factor: f,
+            effective_range_mpa: eff,
+            design_range_mpa: design_range,
+            cycles_per_year: b.cycles_per_year,
+            cycles_design_life: b.cycles_per_year * years,
+            segment: None,
+            endurance_cycles: None,
+            damage: 0.0,
+        });
+    }
+    (blocks, loads, acted, max_range)
+}
+
+/// Endurance and damage of every block; returns the damage, the cycles below the
+/// cut-off and (cycles, damage) per curve segment.
+fn damage_sum(
+    blocks: &mut [BlockResult],
+    design: &SnCurve,
+    ca_applied: bool,
+) -> (f64, f64, Vec<(f64, f64)>) {
+    let mut damage = 0.0;
+    let mut below = 0.0;
+    let mut bands: Vec<(f64, f64)> = vec![(0.0, 0.0); design.slopes.len()];
+    for b in blocks.iter_mut() {
+        match design.endurance(b.design_range_mpa) {
+            Some((n, seg)) => {
+                b.segment = Some(seg);
+                b.endurance_cycles = Some(n);
+                if !ca_applied {
+                    // Palmgren-Miner: Dᵢ = nᵢ/Nᵢ (EN 1993-1-9 A.5, common practice)
+                    b.damage = b.cycles_design_life / n;
+                }
+                bands[seg - 1].0 += b.cycles_design_life;
+                bands[seg - 1].1 += b.damage;
+            }
+            None => below += b.cycles_design_life,
+        }
+        damage += b.damage;
+    }
+    (damage, below, bands)
+}
+
+fn knee_symbols(design: &SnCurve) -> Vec<String> {
+    design
+        .to_result()
+        .knees
+        .iter()
+        .enumerate()
+        .map(|(i, k)| {
+            k.symbol
+                .clone()
+                .unwrap_or_else(|| format!("knee {}", i + 1))
+        })
+        .collect()
+}
+
+/// Damage by curve band, labelled by the knees that bound each band.
+fn band_table(
+    design: &SnCurve,
+    sym: &str,
+    knee_syms: &[String],
+    bands: &[(f64, f64)],
+    below: f64,
+) -> Vec<BandDamage> {
+    let mut damage_by_band: Vec<BandDamage> = bands
+        .iter()
+        .enumerate()
+        .map(|(i, &(cyc, d))| {
+            let upper = if i == 0 { None } else { knee_syms.get(i - 1) };
+            let lower = knee_syms.get(i);
+            let label = match (lower, upper) {
+                (Some(l), None) => format!("{sym} ≥ {l} (m = {})", design.slopes[i]),
+                (Some(l), Some(u)) => format!("{l} ≤ {sym} < {u} (m = {})", design.slopes[i]),
+                (None, Some(u)) => format!("{sym} < {u} (m = {})", design.slopes[i]),
+                (None, None) => format!("all ranges (m = {})", design.slopes[i]),
+            };
+            BandDamage {
+                label,
+                cycles_design_life: cyc,
+                damage: d,
+            }
+        })
+        .collect();
+    if design.cut_off {
+        damage_by_band.push(BandDamage {
+            label: format!(
+                "{sym} < {} (below cut-off, no damage)",
+                knee_syms.last().cloned().unwrap_or_default()
+            ),
+            cycles_design_life: below,
+            damage: 0.0,
+        });
+    }
+    damage_by_band
+}
+
+/// Assess one component over the design life. Returns its result, its prepared form
+/// for the life and reserve searches with the design reference range, and whether a
+/// range lies beyond the validity limit.
+pub(super) fn assess_component(
+    fam: &Family,
+    basis: &ResolvedBasis,
+    checks: &Checks,
+    s: &ComponentSetup,
+    fy: f64,
+    found: &mut Findings,
+) -> (ComponentResult, (Prepared, f64), bool) {
+    let gff = basis.gamma_ff.value;
+    let gmf = basis.gamma_mf.value;
+    let years = basis.design_life_years;
+    let cv = curves(fam, basis, s);
+    let ca_limit = cv.ca_limit_ratio.map(|r| r * cv.design_ref);
+    let validity_limit = fy
+        * match s.comp {
+            Component::Normal => fam.validity.normal_fy_factor,
+            Component::Shear => fam.validity.shear_fy_factor,
+        };
+    let (mut blocks, loads, acted, max_range) = block_results(s, gff, years);
+    // Constant amplitude: every block has the same design range.
+    let constant_amplitude = !loads.is_empty()
+        && loads
+            .iter()
+            .all(|(r, _)| (r - loads[0].0).abs() <= 1e-12 * loads[0].0);
+    let ca_ratio = if constant_amplitude {
+        cv.ca_limit_ratio
+    } else {
+        None
+    };
+    let ca_applied = match ca_limit {
+        Some(lim) => constant_amplitude && loads[0].0 <= lim,
+        None => false,
+    };
+    let (damage, below, bands) = damage_sum(&mut blocks, &cv.design, ca_applied);
+    let sym = fam.range_symbol.get(s.comp);
+    let knee_syms = knee_symbols(&cv.design);
+    let damage_by_band = band_table(&cv.design, sym, &knee_syms, &bands, below);
+    let total_cycles: f64 = blocks.iter().map(|b| b.cycles_design_life).sum();
+    if below > 0.0 && !ca_applied {
+        found.warn(
+            "cycles-below-cut-off",
+            format!(
+                "{} of {} {} cycles over the design life lie below the cut-off {} = {:.1} MPa and are ignored",
+                fmt_cycles(below),
+                fmt_cycles(total_cycles),
+                s.comp.as_str(),
+                knee_syms.last().cloned().unwrap_or_default(),
+                cv.design.knees.last().map(|k| k.1).unwrap_or(0.0)
+            ),
+        );
+    }
+    if ca_applied {
+        found.notes.push(format!(
+            "Constant-amplitude {} loading at or below the constant-amplitude fatigue limit {:.1} MPa: no damage is counted.",
+            s.comp.as_str(),
+            ca_limit.unwrap_or(0.0)
+        ));
+    }
+    let outside = max_range > validity_limit;
+    if outside {
+        found.warn(
+            "validity-limit-exceeded",
+            format!(
+                "largest {} range γFf·{sym} = {:.1} MPa exceeds the validity limit {:.1} MPa ({}): outside the nominal-stress high-cycle method, a low-cycle fatigue check is needed",
+                s.comp.as_str(),
+                max_range,
+                validity_limit,
+                fam.validity.source
+            ),
+        );
+    }
+    let rule_can_act = s.case.compressive_fraction.is_some_and(|f| f < 1.0)
+        || s.case
+            .enhancement_points
+            .as_ref()
+            .is_some_and(|p| !p.is_empty());
+    if rule_can_act && s.history.blocks.iter().any(|b| b.max_mpa.is_none()) {
+        found.warn(
+            "mean-stress-not-applied",
+            format!(
+                "mean-stress case `{}` cannot act on {} blocks given as a range only; the full range is used for them",
+                s.case_key,
+                s.comp.as_str()
+            ),
+        );
+    }
+    let m1 = cv.design.slopes[0];
+    let damage_per_year = damage / years;
+    // Equivalent range at the reference cycles: γFf·ΔσE,2 = ΔσC,d·D^(1/m1) (EN 1993-1-9 eq. (8.2), A.5)
+    let design_equivalent = cv.design_ref * damage.powf(1.0 / m1);
+    let result = ComponentResult {
+        component: s.comp.as_str().into(),
+        symbol: sym.clone(),
+        category_symbol: fam.category_symbol.get(s.comp).clone(),
+        category_mpa: s.category,
+        category_source: s.category_source.clone(),
+        catalogue_category_mpa: s.catalogue_category,
+        size: s.size.clone(),
+        mean_stress: MeanStressCorrection {
+            case: s.case_key.clone(),
+            case_name: s.case.name.clone(),
+            rule: if s.case.compressive_fraction.is_some() {
+                "compressive-fraction".into()
+            } else {
+                "enhancement".into()
+            },
+            source: fam.mean_stress.source.clone(),
+            acted,
+        },
+        corrected_category_mpa: cv.corrected,
+        gamma_mf: gmf,
+        gamma_ff: gff,
+        design_category_mpa: cv.design_ref,
+        characteristic_curve: cv.characteristic.to_result(),
+        design_curve: cv.design.to_result(),
+        constant_amplitude_limit_mpa: ca_limit,
+        constant_amplitude_rule_applied: ca_applied,
+        blocks,
+        damage_by_band,
+        damage_per_year,
+        damage,
+        damage_limit: checks.dlim,
+        equivalent_slope_m: m1,
+        equivalent_range_mpa: design_equivalent / gff,
+        design_equivalent_range_mpa: design_equivalent,
+        range_ratio: checks.ratio(damage, m1),
+        utilisation: checks.utilisation(damage, m1),
+        life_years: if damage_per_year > 0.0 {
+            // life = D_lim / (D per year) (Palmgren-Miner, linear in time)
+            Some(checks.dlim / damage_per_year)
+        } else {
+            None
+        },
+        required_category_mpa: None,
+        cycles_design_life: total_cycles,
+        cycles_below_cut_off: below,
+        max_range_mpa: max_range,
+        validity_limit_mpa: validity_limit,
+        counted: s.history.counted.clone(),
+    };
+    let prepared = Prepared {
+        unit: cv.unit,
+        ca_ratio,
+        loads,
+    };
+    (result, (prepared, cv.design_ref), outside)
+}

@@ -1,0 +1,102 @@
+//! `seamlife classes`: list the curve families, or one family's categories and catalogue.
+
+use std::path::Path;
+
+use crate::catalogue::{Component, Family, Library};
+use crate::error::{Error, EXIT_PASS};
+use crate::results::CAUTION_LINE;
+
+pub(super) fn run(family: Option<&str>, library: &Library) -> Result<i32, Error> {
+    let mut out = String::new();
+    match family {
+        None => {
+            out.push_str("Curve families (use `seamlife classes ID` for one):\n\n");
+            for f in &library.families {
+                out.push_str(&format!(
+                    "  {:<12} {} — {} ({} catalogue entries, data {})\n",
+                    f.id,
+                    f.title,
+                    f.edition,
+                    f.catalogue.len(),
+                    f.data_version
+                ));
+            }
+        }
+        Some(id) => {
+            let Some(f) = library.get(id) else {
+                let ids = library.ids();
+                let hint = match crate::input::suggest(id, ids.iter().copied()) {
+                    Some(n) => format!("did you mean `{n}`?"),
+                    None => format!("known families: {}", ids.join(", ")),
+                };
+                return Err(Error::Input(
+                    crate::error::InputError::new(
+                        crate::error::InputErrorKind::UnknownFamily,
+                        crate::error::Location::file(Path::new("<command line>")),
+                        format!("unknown curve family `{id}`"),
+                    )
+                    .hint(hint),
+                ));
+            };
+            family_listing(f, &mut out);
+        }
+    }
+    out.push('\n');
+    out.push_str(CAUTION_LINE);
+    out.push('\n');
+    print!("{out}");
+    Ok(EXIT_PASS)
+}
+
+fn family_listing(f: &Family, out: &mut String) {
+    out.push_str(&format!("{} — {}\n{}\n", f.id, f.title, f.edition));
+    out.push_str(&format!(
+        "data version {}: {}\n\n",
+        f.data_version, f.transcription_note
+    ));
+    for c in [Component::Normal, Component::Shear] {
+        let def = f.curves.get(c);
+        out.push_str(&format!(
+            "{} stress categories {} (MPa at {:.0e} cycles): {}\n",
+            c.as_str(),
+            f.category_symbol.get(c),
+            f.reference_cycles,
+            def.categories_mpa
+                .iter()
+                .map(|x| format!("{x}"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+        for (name, v) in &def.variants {
+            out.push_str(&format!("  curve variant `{name}`: {}\n", v.name));
+        }
+    }
+    out.push_str("\nmean-stress cases:\n");
+    for (k, c) in &f.mean_stress.cases {
+        out.push_str(&format!("  {k:<18} {}\n", c.name));
+    }
+    out.push_str("\ncatalogue:\n");
+    let kw = f
+        .catalogue
+        .iter()
+        .map(|e| e.key.len())
+        .max()
+        .unwrap_or(3)
+        .max(3);
+    out.push_str(&format!(
+        "  {:<kw$}  {:>6}  {:>6}  {:>4}  description [reference]\n",
+        "key", "normal", "shear", "n"
+    ));
+    for e in &f.catalogue {
+        let o = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_else(|| "-".into());
+        out.push_str(&format!(
+            "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]\n",
+            e.key,
+            o(e.normal_category),
+            o(e.shear_category),
+            o(e.thickness_exponent),
+            e.description,
+            e.reference
+        ));
+    }
+}

@@ -1,0 +1,200 @@
+//! Output writers shared by the commands: atomic files, the results table, CSV rows.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use crate::error::Error;
+use crate::results::{Results, CAUTION_LINE};
+
+/// Write a file whole or not at all: a temporary file in the same folder, renamed.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Error> {
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let out_err = |source| Error::Output {
+        path: path.to_path_buf(),
+        source,
+    };
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".seamlife-")
+        .suffix(".part")
+        .tempfile_in(&dir)
+        .map_err(out_err)?;
+    tmp.write_all(bytes).map_err(out_err)?;
+    tmp.as_file().sync_all().map_err(out_err)?;
+    tmp.persist(path).map_err(|e| out_err(e.error))?;
+    Ok(())
+}
+
+/// Life in years for a table cell.
+pub fn fmt_life(l: Option<f64>) -> String {
+    match l {
+        None => "no damage".into(),
+        Some(y) if y >= 1e6 => format!("{y:.1e}"),
+        Some(y) if y >= 100.0 => format!("{y:.0}"),
+        Some(y) => format!("{y:.1}"),
+    }
+}
+
+fn category_cell(d: &crate::results::DetailResult) -> String {
+    d.components
+        .iter()
+        .map(|c| {
+            let cat = format!("{}", c.category_mpa);
+            if c.component == "shear" {
+                format!("τ{cat}")
+            } else {
+                cat
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+fn truncate(s: &str, n: usize) -> String {
+    if s.chars().count() <= n {
+        s.to_string()
+    } else {
+        let mut t: String = s.chars().take(n - 1).collect();
+        t.push('…');
+        t
+    }
+}
+
+/// The readable table printed by `assess`.
+pub fn table(r: &Results) -> String {
+    let mut rows: Vec<[String; 7]> = vec![[
+        "id".into(),
+        "location".into(),
+        "category MPa".into(),
+        "damage".into(),
+        "utilisation".into(),
+        "life years".into(),
+        "status".into(),
+    ]];
+    for d in &r.details {
+        rows.push([
+            d.id.clone(),
+            truncate(&d.location, 44),
+            category_cell(d),
+            format!("{:.3}", d.damage),
+            format!("{:.3}", d.utilisation),
+            fmt_life(d.life_years),
+            d.status.as_str().into(),
+        ]);
+    }
+    let mut widths = [0usize; 7];
+    for row in &rows {
+        for (w, c) in widths.iter_mut().zip(row) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    let mut out = String::new();
+    out.push_str(&format!(
+        "{} {} rev {} | family {} | design life {} years | γFf {} γMf {} D_lim {}\n\n",
+        r.project.reference,
+        r.project.title,
+        r.project.revision,
+        r.family.id,
+        r.basis.design_life_years,
+        r.basis.gamma_ff.value,
+        r.basis.gamma_mf.value,
+        r.basis.damage_limit.value
+    ));
+    for (i, row) in rows.iter().enumerate() {
+        let mut line = String::new();
+        for (j, (c, w)) in row.iter().zip(widths).enumerate() {
+            let pad = w - c.chars().count();
+            // numbers right-aligned, text left-aligned
+            if (3..=5).contains(&j) && i > 0 {
+                line.push_str(&" ".repeat(pad));
+                line.push_str(c);
+            } else {
+                line.push_str(c);
+                line.push_str(&" ".repeat(pad));
+            }
+            line.push_str("  ");
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+        if i == 0 {
+            let total: usize = widths.iter().sum::<usize>() + 2 * 6;
+            out.push_str(&"-".repeat(total));
+            out.push('\n');
+        }
+    }
+    out.push('\n');
+    let s = &r.summary;
+    out.push_str(&format!(
+        "{} details: {} pass, {} fail, {} outside the method; governing {} at utilisation {:.3}\n",
+        s.details,
+        s.passed,
+        s.failed,
+        s.outside_method,
+        s.governing_detail.as_deref().unwrap_or("-"),
+        s.max_utilisation
+    ));
+    for d in &r.details {
+        for w in &d.warnings {
+            out.push_str(&format!("warning: {}: {}\n", d.id, w.message));
+        }
+    }
+    out.push_str(CAUTION_LINE);
+    out.push('\n');
+    out
+}
+
+/// One CSV row per detail.
+pub fn csv_summary(r: &Results) -> Result<String, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
+    w.write_record([
+        "id",
+        "location",
+        "status",
+        "utilisation",
+        "governing_check",
+        "damage",
+        "damage_limit",
+        "life_years",
+        "reserve_factor",
+        "required_category_mpa",
+        "normal_category_mpa",
+        "normal_equivalent_range_mpa",
+        "shear_category_mpa",
+        "shear_equivalent_range_mpa",
+        "warnings",
+    ])
+    .map_err(e)?;
+    let opt = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_default();
+    for d in &r.details {
+        let comp = |name: &str| d.components.iter().find(|c| c.component == name);
+        w.write_record([
+            d.id.clone(),
+            d.location.clone(),
+            d.status.as_str().to_string(),
+            format!("{}", d.utilisation),
+            d.governing_check.clone(),
+            format!("{}", d.damage),
+            format!("{}", d.damage_limit),
+            opt(d.life_years),
+            opt(d.reserve_factor),
+            opt(d.required_category),
+            opt(comp("normal").map(|c| c.category_mpa)),
+            opt(comp("normal").map(|c| c.equivalent_range_mpa)),
+            opt(comp("shear").map(|c| c.category_mpa)),
+            opt(comp("shear").map(|c| c.equivalent_range_mpa)),
+            d.warnings
+                .iter()
+                .map(|w| w.code.clone())
+                .collect::<Vec<_>>()
+                .join(";"),
+        ])
+        .map_err(e)?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| Error::Internal(format!("csv: {e}")))?;
+    String::from_utf8(bytes).map_err(|e| Error::Internal(format!("csv: {e}")))
+}

@@ -1,0 +1,655 @@
+//! Semantic checks of a parsed project file against the curve family: everything that
+//! serde's schema cannot say (positive numbers, known names, unique ids, calendar
+//! dates). Each problem carries its path in the document, located only when reported.
+
+use std::collections::BTreeMap;
+
+use super::schema::*;
+use crate::catalogue::{Component, Family, Library};
+use crate::error::InputErrorKind;
+use crate::files::locate::YamlPath;
+use crate::files::suggest;
+
+/// A problem found after parsing, located by its path in the document.
+pub(super) struct Problem {
+    pub(super) path: YamlPath,
+    pub(super) kind: InputErrorKind,
+    pub(super) message: String,
+    pub(super) hint: Option<String>,
+}
+
+struct Checker {
+    problems: Vec<Problem>,
+}
+
+impl Checker {
+    fn push(
+        &mut self,
+        path: YamlPath,
+        kind: InputErrorKind,
+        message: String,
+        hint: Option<String>,
+    ) {
+        self.problems.push(Problem {
+            path,
+            kind,
+            message,
+            hint,
+        });
+    }
+
+    fn positive(&mut self, path: YamlPath, what: &str, v: f64) {
+        if v.is_nan() {
+            self.push(
+                path,
+                InputErrorKind::InvalidValue,
+                format!("{what} is not a number (NaN)"),
+                Some("give a finite positive number".into()),
+            );
+        } else if !v.is_finite() {
+            self.push(
+                path,
+                InputErrorKind::InvalidValue,
+                format!("{what} is infinite"),
+                Some("give a finite positive number".into()),
+            );
+        } else if v <= 0.0 {
+            self.push(
+                path,
+                InputErrorKind::InvalidValue,
+                format!("{what} must be greater than zero, got {v}"),
+                Some(if what.contains("range") {
+                    "a stress range is max minus min and is always positive; give the sign through max_mpa/min_mpa".into()
+                } else {
+                    "give a finite positive number".into()
+                }),
+            );
+        }
+    }
+
+    fn finite(&mut self, path: YamlPath, what: &str, v: f64) {
+        if !v.is_finite() {
+            self.push(
+                path,
+                InputErrorKind::InvalidValue,
+                format!("{what} must be a finite number, got {v}"),
+                Some("give a finite number in MPa".into()),
+            );
+        }
+    }
+
+    fn option_name(&mut self, path: YamlPath, what: &str, name: &str, options: Vec<String>) {
+        if !options.iter().any(|o| o == name) {
+            let hint = match suggest(name, options.iter().map(|s| s.as_str())) {
+                Some(n) => format!("did you mean `{n}`?"),
+                None if options.is_empty() => format!("this family defines no {what}s"),
+                None => format!("this family defines: {}", options.join(", ")),
+            };
+            self.push(
+                path,
+                InputErrorKind::UnknownOption,
+                format!("unknown {what} `{name}`"),
+                Some(hint),
+            );
+        }
+    }
+}
+
+fn valid_iso_date(s: &str) -> bool {
+    let b = s.as_bytes();
+    if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
+        return false;
+    }
+    let num = |r: std::ops::Range<usize>| s[r].parse::<u32>().ok();
+    match (num(0..4), num(5..7), num(8..10)) {
+        (Some(y), Some(m), Some(d)) => {
+            let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+            let days = [
+                31,
+                if leap { 29 } else { 28 },
+                31,
+                30,
+                31,
+                30,
+                31,
+                31,
+                30,
+                31,
+                30,
+                31,
+            ];
+            (1970..=9999).contains(&y)
+                && (1..=12).contains(&m)
+                && d >= 1
+                && d <= days[m as usize - 1]
+        }
+        _ => false,
+    }
+}
+
+pub(super) fn check(file: &ProjectFile, library: &Library) -> Vec<Problem> {
+    let mut c = Checker {
+        problems: Vec::new(),
+    };
+    let family = library.get(&file.basis.family);
+    check_header(&mut c, file);
+    check_basis(&mut c, file, library, family);
+    check_materials(&mut c, file);
+    check_details(&mut c, file, family);
+    c.problems
+}
+
+/// Schema version and the project block: dates, required texts.
+fn check_header(c: &mut Checker, file: &ProjectFile) {
+    let root = YamlPath::root();
+    if file.seamlife != SCHEMA_VERSION {
+        c.push(
+            root.key("seamlife"),
+            InputErrorKind::UnsupportedVersion,
+            format!(
+                "schema version {} is not supported; this seamlife reads version {SCHEMA_VERSION}",
+                file.seamlife
+            ),
+            Some(format!("set `seamlife: {SCHEMA_VERSION}`")),
+        );
+    }
+    let pr = root.key("project");
+    if !valid_iso_date(&file.project.date) {
+        c.push(
+            pr.key("date"),
+            InputErrorKind::InvalidValue,
+            format!("date `{}` is not a calendar date", file.project.date),
+            Some("write dates as YYYY-MM-DD, e.g. 2026-11-20".into()),
+        );
+    }
+    for (i, r) in file.project.revisions.iter().enumerate() {
+        if !valid_iso_date(&r.date) {
+            c.push(
+                pr.key("revisions").index(i).key("date"),
+                InputErrorKind::InvalidValue,
+                format!("date `{}` is not a calendar date", r.date),
+                Some("write dates as YYYY-MM-DD".into()),
+            );
+        }
+    }
+    for (key, value) in [
+        ("title", &file.project.title),
+        ("reference", &file.project.reference),
+        ("revision", &file.project.revision),
+        ("prepared_by", &file.project.prepared_by),
+    ] {
+        if value.trim().is_empty() {
+            c.push(
+                pr.key(key),
+                InputErrorKind::MissingField,
+                format!("{key} is empty"),
+                Some("the calculation package needs it on every page".into()),
+            );
+        }
+    }
+}
+
+/// The basis: family, design life, overrides with reasons, named family options.
+fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: Option<&Family>) {
+    let root = YamlPath::root();
+    let b = root.key("basis");
+    if family.is_none() {
+        let ids = library.ids();
+        let hint = match suggest(&file.basis.family, ids.iter().copied()) {
+            Some(n) => format!("did you mean `{n}`? (`seamlife classes` lists the families)"),
+            None => format!("known families: {}", ids.join(", ")),
+        };
+        c.push(
+            b.key("family"),
+            InputErrorKind::UnknownFamily,
+            format!("unknown curve family `{}`", file.basis.family),
+            Some(hint),
+        );
+    }
+    c.positive(
+        b.key("design_life_years"),
+        "design_life_years",
+        file.basis.design_life_years,
+    );
+    for (key, ov) in [
+        ("gamma_ff", &file.basis.gamma_ff),
+        ("gamma_mf", &file.basis.gamma_mf),
+        ("damage_limit", &file.basis.damage_limit),
+    ] {
+        if let Some(o) = ov {
+            c.positive(b.key(key).key("value"), key, o.value);
+            if o.reason.trim().is_empty() {
+                c.push(
+                    b.key(key).key("reason"),
+                    InputErrorKind::MissingField,
+                    format!("an override of {key} needs a reason"),
+                    Some(
+                        "state why the family's value does not apply; the report prints it".into(),
+                    ),
+                );
+            }
+        }
+    }
+    if let Some(fam) = family {
+        if let Some(case) = &file.basis.damage_case {
+            c.option_name(
+                b.key("damage_case"),
+                "damage case",
+                case,
+                fam.damage_limit.cases.keys().cloned().collect(),
+            );
+        }
+        if let Some(v) = &file.basis.curve_variant {
+            c.option_name(
+                b.key("curve_variant"),
+                "curve variant",
+                v,
+                fam.variant_names(),
+            );
+        }
+        if let Some(ic) = &file.basis.interaction_case {
+            let opts = fam
+                .verification
+                .interaction
+                .as_ref()
+                .map(|i| i.cases.keys().cloned().collect())
+                .unwrap_or_default();
+            c.option_name(b.key("interaction_case"), "interaction case", ic, opts);
+        }
+    }
+}
+
+fn check_materials(c: &mut Checker, file: &ProjectFile) {
+    let root = YamlPath::root();
+    for (name, m) in &file.materials {
+        c.positive(
+            root.key("materials").key(name).key("fy_mpa"),
+            "fy_mpa",
+            m.fy_mpa,
+        );
+    }
+}
+
+/// Every detail: unique id, defined material, positive sizes, catalogue key, and its
+/// components against the family (when the family is known).
+fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
+    let d = YamlPath::root().key("details");
+    if file.details.is_empty() {
+        c.push(
+            d.clone(),
+            InputErrorKind::MissingField,
+            "the project lists no details".into(),
+            Some("add at least one entry under `details:`".into()),
+        );
+    }
+    let mut first_seen: BTreeMap<&str, usize> = BTreeMap::new();
+    for (i, det) in file.details.iter().enumerate() {
+        let p = d.index(i);
+        if det.id.trim().is_empty() {
+            c.push(
+                p.key("id"),
+                InputErrorKind::MissingField,
+                "detail id is empty".into(),
+                Some("give each detail a short unique id, e.g. RG2-W01".into()),
+            );
+        } else if let Some(j) = first_seen.get(det.id.as_str()) {
+            c.push(
+                p.key("id"),
+                InputErrorKind::DuplicateId,
+                format!(
+                    "duplicate detail id `{}` (first used by details[{j}])",
+                    det.id
+                ),
+                Some("detail ids must be unique within a project".into()),
+            );
+        } else {
+            first_seen.insert(&det.id, i);
+        }
+        if !file.materials.contains_key(&det.material) {
+            let names: Vec<&str> = file.materials.keys().map(|s| s.as_str()).collect();
+            let hint = match suggest(&det.material, names.iter().copied()) {
+                Some(n) => format!("did you mean `{n}`?"),
+                None if names.is_empty() => {
+                    format!(
+                        "add it under `materials:`, e.g. `{}: {{fy_mpa: 355}}`",
+                        det.material
+                    )
+                }
+                None => format!("defined materials: {}", names.join(", ")),
+            };
+            c.push(
+                p.key("material"),
+                InputErrorKind::UndefinedMaterial,
+                format!(
+                    "material `{}` is not defined under `materials:`",
+                    det.material
+                ),
+                Some(hint),
+            );
+        }
+        c.positive(p.key("thickness_mm"), "thickness_mm", det.thickness_mm);
+        if let Some(l) = det.toe_distance_mm {
+            c.positive(p.key("toe_distance_mm"), "toe_distance_mm", l);
+        }
+        if let Some(n) = det.thickness_exponent {
+            if !(n.is_finite() && (0.0..=1.0).contains(&n)) {
+                c.push(
+                    p.key("thickness_exponent"),
+                    InputErrorKind::InvalidValue,
+                    format!("thickness_exponent must lie between 0 and 1, got {n}"),
+                    None,
+                );
+            }
+        }
+        if det.normal.is_none() && det.shear.is_none() {
+            c.push(
+                p.clone(),
+                InputErrorKind::MissingField,
+                format!(
+                    "detail `{}` has neither `normal:` nor `shear:` loading",
+                    det.id
+                ),
+                Some("add a `normal:` or `shear:` component with its loading".into()),
+            );
+        }
+        let Some(fam) = family else { continue };
+        let entry = match &det.detail {
+            Some(key) => match fam.entry(key) {
+                Some(e) => Some(e),
+                None => {
+                    let keys = fam.catalogue.iter().map(|e| e.key.as_str());
+                    let hint = match suggest(key, keys) {
+                        Some(n) => format!(
+                            "did you mean `{n}`? (`seamlife classes {}` lists them)",
+                            fam.id
+                        ),
+                        None => format!("`seamlife classes {}` lists the catalogue", fam.id),
+                    };
+                    c.push(
+                        p.key("detail"),
+                        InputErrorKind::UnknownDetail,
+                        format!("`{key}` is not in the {} catalogue", fam.id),
+                        Some(hint),
+                    );
+                    None
+                }
+            },
+            None => None,
+        };
+        if let Some(case) = &det.mean_stress_case {
+            c.option_name(
+                p.key("mean_stress_case"),
+                "mean-stress case",
+                case,
+                fam.mean_stress.cases.keys().cloned().collect(),
+            );
+        }
+        for (comp, input) in [
+            (Component::Normal, &det.normal),
+            (Component::Shear, &det.shear),
+        ] {
+            let Some(ci) = input else { continue };
+            let cp = p.key(comp.as_str());
+            check_component(
+                c,
+                fam,
+                comp,
+                ci,
+                entry.map(|e| e.category(comp)),
+                &cp,
+                det.detail.is_some(),
+            );
+        }
+    }
+}
+
+fn check_component(
+    c: &mut Checker,
+    fam: &Family,
+    comp: Component,
+    ci: &ComponentInput,
+    from_entry: Option<Option<f64>>,
+    cp: &YamlPath,
+    has_detail_key: bool,
+) {
+    let cats = &fam.curves.get(comp).categories_mpa;
+    match ci.category {
+        Some(cat) => {
+            if !cats.contains(&cat) {
+                let near = cats
+                    .iter()
+                    .copied()
+                    .min_by(|a, b| (a - cat).abs().total_cmp(&(b - cat).abs()));
+                let list = cats
+                    .iter()
+                    .map(|x| format!("{x}"))
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                c.push(
+                    cp.key("category"),
+                    InputErrorKind::UnknownCategory,
+                    format!(
+                        "{} category {cat} is not one of the {} categories",
+                        comp.as_str(),
+                        fam.id
+                    ),
+                    Some(match near {
+                        Some(n) if cat.is_finite() => {
+                            format!("nearest is {n}; the list is {list}")
+                        }
+                        _ => format!("the list is {list}"),
+                    }),
+                );
+            }
+        }
+        None => {
+            if from_entry.flatten().is_none() {
+                let why = if has_detail_key && from_entry.is_some() {
+                    format!(
+                        "the catalogue entry gives no {} category, and none is set here",
+                        comp.as_str()
+                    )
+                } else {
+                    format!(
+                        "no {} category: give `category:` or a catalogue `detail:`",
+                        comp.as_str()
+                    )
+                };
+                c.push(
+                    cp.clone(),
+                    InputErrorKind::MissingField,
+                    why,
+                    Some(format!(
+                        "add `category: <{}>` (MPa at 2e6 cycles)",
+                        fam.category_symbol.get(comp)
+                    )),
+                );
+            }
+        }
+    }
+    if ci.loading.is_empty() {
+        c.push(
+            cp.key("loading"),
+            InputErrorKind::MissingField,
+            "loading lists no events".into(),
+            Some("add at least one event with per_year and blocks".into()),
+        );
+    }
+    for (k, ev) in ci.loading.iter().enumerate() {
+        let ep = cp.key("loading").index(k);
+        match (&ev.blocks, &ev.series) {
+            (Some(_), Some(_)) | (None, None) => c.push(
+                ep.clone(),
+                InputErrorKind::MissingField,
+                "an event needs exactly one of `blocks:` or `series:`".into(),
+                Some("split block loading and a measured series into two events".into()),
+            ),
+            _ => {}
+        }
+        match ev.per_year {
+            Some(py) => c.positive(ep.key("per_year"), "per_year", py),
+            None => {
+                let timed = ev
+                    .series
+                    .as_ref()
+                    .is_some_and(|s| s.record_hours.is_some() && s.hours_per_year.is_some());
+                if !timed {
+                    c.push(
+                        ep.clone(),
+                        InputErrorKind::MissingField,
+                        "missing field `per_year` (occurrences of the event per year)".into(),
+                        Some(if ev.series.is_some() {
+                            "give `per_year`, or the series' `record_hours` and `hours_per_year`"
+                                .into()
+                        } else {
+                            "add `per_year:`".into()
+                        }),
+                    );
+                }
+            }
+        }
+        if let Some(blocks) = &ev.blocks {
+            if blocks.is_empty() {
+                c.push(
+                    ep.key("blocks"),
+                    InputErrorKind::MissingField,
+                    "blocks is empty".into(),
+                    Some("list at least one {range_mpa, cycles} block".into()),
+                );
+            }
+            for (j, bl) in blocks.iter().enumerate() {
+                check_block(c, bl, &ep.key("blocks").index(j));
+            }
+        }
+        if let Some(s) = &ev.series {
+            check_series(c, s, &ep.key("series"));
+        }
+    }
+}
+
+fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
+    match (bl.range_mpa, bl.mean_mpa, bl.max_mpa, bl.min_mpa) {
+        (Some(r), mean, None, None) => {
+            c.positive(bp.key("range_mpa"), "range_mpa", r);
+            if let Some(m) = mean {
+                c.finite(bp.key("mean_mpa"), "mean_mpa", m);
+            }
+        }
+        (None, None, Some(hi), Some(lo)) => {
+            c.finite(bp.key("max_mpa"), "max_mpa", hi);
+            c.finite(bp.key("min_mpa"), "min_mpa", lo);
+            if hi.is_finite() && lo.is_finite() && hi <= lo {
+                c.push(
+                    bp.key("max_mpa"),
+                    InputErrorKind::InvalidValue,
+                    format!("max_mpa {hi} must exceed min_mpa {lo}"),
+                    Some("the range is max_mpa - min_mpa and must be positive".into()),
+                );
+            }
+        }
+        _ => c.push(
+            bp.clone(),
+            InputErrorKind::MissingField,
+            "a block needs `range_mpa` (optionally with `mean_mpa`) or both `max_mpa` and `min_mpa`".into(),
+            Some("e.g. {range_mpa: 62, cycles: 1} or {max_mpa: 40, min_mpa: -22, cycles: 1}".into()),
+        ),
+    }
+    c.positive(bp.key("cycles"), "cycles", bl.cycles);
+}
+
+fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
+    if let ColumnSelector::Index(0) = s.column {
+        c.push(
+            sp.key("column"),
+            InputErrorKind::InvalidValue,
+            "column numbers start at 1".into(),
+            Some("give the header name, or 1 for the first column".into()),
+        );
+    }
+    match (s.unit, s.modulus_mpa) {
+        (SeriesUnitInput::Microstrain, None) => c.push(
+            sp.clone(),
+            InputErrorKind::MissingField,
+            "a strain record needs `modulus_mpa`".into(),
+            Some("e.g. `modulus_mpa: 210000` for steel".into()),
+        ),
+        (_, Some(e)) => c.positive(sp.key("modulus_mpa"), "modulus_mpa", e),
+        _ => {}
+    }
+    if let Some(f) = s.scale {
+        c.positive(sp.key("scale"), "scale", f);
+    }
+    if let Some(h) = s.record_hours {
+        c.positive(sp.key("record_hours"), "record_hours", h);
+    }
+    if let Some(h) = s.hours_per_year {
+        c.positive(sp.key("hours_per_year"), "hours_per_year", h);
+    }
+    if s.record_hours.is_some() != s.hours_per_year.is_some() {
+        c.push(
+            sp.clone(),
+            InputErrorKind::MissingField,
+            "`record_hours` and `hours_per_year` go together".into(),
+            Some("give both, or neither and use the event's `per_year`".into()),
+        );
+    }
+    if let Some(g) = s.gate_mpa {
+        if !(g.is_finite() && g >= 0.0) {
+            c.push(
+                sp.key("gate_mpa"),
+                InputErrorKind::InvalidValue,
+                format!("gate_mpa must be zero or positive, got {g}"),
+                None,
+            );
+        }
+    }
+    if let Some(w) = s.bin_width_mpa {
+        c.positive(sp.key("bin_width_mpa"), "bin_width_mpa", w);
+    }
+    if s.bins == Some(0) {
+        c.push(
+            sp.key("bins"),
+            InputErrorKind::InvalidValue,
+            "bins must be at least 1".into(),
+            None,
+        );
+    }
+    if s.mean_bins.is_some_and(|n| n < 2) {
+        c.push(
+            sp.key("mean_bins"),
+            InputErrorKind::InvalidValue,
+            "mean_bins must be at least 2 (bins sit on both sides of zero mean)".into(),
+            None,
+        );
+    }
+    if s.bins.is_some() && s.bin_width_mpa.is_some() {
+        c.push(
+            sp.clone(),
+            InputErrorKind::InvalidValue,
+            "give `bins` or `bin_width_mpa`, not both".into(),
+            None,
+        );
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn dates() {
+        assert!(valid_iso_date("2026-11-20"));
+        assert!(valid_iso_date("2024-02-29"));
+        assert!(!valid_iso_date("2023-02-29"));
+        assert!(!valid_iso_date("20-11-2026"));
+    }
+
+    #[test]
+    fn suggestions() {
+        assert_eq!(
+            suggest("thicknes_mm", ["id", "thickness_mm", "material"]),
+            Some("thickness_mm")
+        );
+        assert_eq!(suggest("zzz", ["id", "thickness_mm"]), None);
+    }
+}
