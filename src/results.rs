@@ -6,7 +6,7 @@
 
 use serde::{Deserialize, Serialize};
 
-pub const MODEL_VERSION: u32 = 1;
+pub const MODEL_VERSION: u32 = 2;
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
 pub struct Results {
@@ -132,7 +132,18 @@ pub struct BasisUsed {
     pub thickness_rule: String,
     pub mean_stress_rule: String,
     pub validity_rule: String,
+    /// How constant-amplitude loading is told apart and verified.
+    pub amplitude_rule: String,
+    /// The check form and damage limit for constant amplitude (the family's own, or
+    /// the variable-amplitude ones).
+    pub constant_amplitude_form: String,
+    pub constant_amplitude_damage_limit: f64,
+    /// What "utilisation" means, the same for every family.
+    pub utilisation_rule: String,
     pub method: Vec<String>,
+    /// Judgement calls the engine makes where the code leaves room, stated so that a
+    /// checker can challenge them.
+    pub judgements: Vec<String>,
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
@@ -194,12 +205,16 @@ pub struct DetailResult {
     pub fy_mpa: f64,
     pub thickness_mm: f64,
     pub status: Status,
-    /// The governing verification value (pass when <= 1).
+    /// Design life over fatigue life: the largest utilisation of the checks (pass when
+    /// <= 1). For one stress component it is D/D_lim.
     pub utilisation: f64,
-    /// Which check governs: `normal`, `shear` or `interaction`.
+    /// The check that limits life and reserve factor: `normal`, `shear` or `interaction`.
     pub governing_check: String,
+    /// Every check of the detail, each in its own measure.
+    pub checks: Vec<CheckResult>,
     /// The largest component damage over the design life.
     pub damage: f64,
+    /// The damage limit of that component's check.
     pub damage_limit: f64,
     pub life_years: Option<f64>,
     /// Factor on all stress ranges that brings the governing check to its limit.
@@ -210,6 +225,22 @@ pub struct DetailResult {
     pub interaction: Option<InteractionResult>,
     pub warnings: Vec<Warning>,
     pub notes: Vec<String>,
+}
+
+/// One verification of a detail, stated in its own measure.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CheckResult {
+    /// `normal`, `shear` or `interaction`.
+    pub name: String,
+    /// `range-ratio` (γFf·ΔσE,2/ΔσC,d), `damage-ratio` (D/D_lim), `range-at-cycles`
+    /// (γFf·Δσ/ΔσR,d(n)) or `interaction` (the interaction sum).
+    pub form: String,
+    pub value: f64,
+    pub limit: f64,
+    /// Design life over the life at which this check reaches its limit.
+    pub utilisation: f64,
+    pub passes: bool,
+    pub source: String,
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
@@ -244,7 +275,9 @@ pub struct MeanStressCorrection {
     /// `compressive-fraction` or `enhancement`.
     pub rule: String,
     pub source: String,
-    /// Whether any block carried max/min so that the rule could act.
+    /// False for shear: the mean-stress rules act on normal stress only.
+    pub applies: bool,
+    /// Whether the rule changed any range.
     pub acted: bool,
 }
 
@@ -321,21 +354,32 @@ pub struct ComponentResult {
     pub characteristic_curve: CurveResult,
     pub design_curve: CurveResult,
     pub constant_amplitude_limit_mpa: Option<f64>,
+    /// `constant` or `variable`.
+    pub amplitude: String,
+    /// Why: stated in the project file, or what the blocks show.
+    pub amplitude_basis: String,
     /// True when the loading was constant amplitude at or below its limit.
     pub constant_amplitude_rule_applied: bool,
+    /// Design resistance at the applied cycle count, for a check on the range
+    /// (`range-at-cycles`).
+    pub resistance_at_cycles_mpa: Option<f64>,
     pub blocks: Vec<BlockResult>,
     pub damage_by_band: Vec<BandDamage>,
     pub damage_per_year: f64,
     pub damage: f64,
+    /// Damage limit of this component's check (constant or variable amplitude).
     pub damage_limit: f64,
     /// Slope used for the equivalent range (first segment).
     pub equivalent_slope_m: f64,
-    /// ΔσE,2: constant range at the reference cycles giving the same damage.
+    /// ΔσE,2: the constant range at the reference cycles that uses the same fraction of
+    /// the damage limit, γFf·ΔσE,2 = ΔσC,d·(D/D_lim)^(1/m1); with D_lim = 1 the usual
+    /// damage-equivalent range.
     pub equivalent_range_mpa: f64,
     /// γFf · ΔσE,2
     pub design_equivalent_range_mpa: f64,
-    /// (D/D_lim)^(1/m1)
+    /// (D/D_lim)^(1/m1) = γFf·ΔσE,2/ΔσC,d
     pub range_ratio: f64,
+    /// D/D_lim: design life over this component's fatigue life.
     pub utilisation: f64,
     pub life_years: Option<f64>,
     pub required_category_mpa: Option<f64>,

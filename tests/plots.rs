@@ -208,6 +208,7 @@ fn component(
             case_name: "welded".into(),
             rule: "compressive-fraction".into(),
             source: "none".into(),
+            applies: symbol != "Δτ",
             acted: false,
         },
         corrected_category_mpa: cat,
@@ -217,7 +218,10 @@ fn component(
         design_curve: scaled(&characteristic, 1.0 / gamma_mf),
         characteristic_curve: characteristic,
         constant_amplitude_limit_mpa: None,
+        amplitude: "variable".into(),
+        amplitude_basis: "the given blocks differ in design range".into(),
         constant_amplitude_rule_applied: false,
+        resistance_at_cycles_mpa: None,
         cycles_design_life: blocks.iter().map(|b| b.cycles_design_life).sum(),
         blocks,
         damage_by_band: Vec::new(),
@@ -252,6 +256,7 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
         status,
         utilisation,
         governing_check: "normal".into(),
+        checks: Vec::new(),
         damage: 0.0,
         damage_limit: 1.0,
         life_years: None,
@@ -528,7 +533,10 @@ fn utilisation_chart_sorts_labels_and_flags_failures() {
     assert_eq!(t.iter().filter(|s| *s == "FAIL").count(), 2);
     assert_eq!(t.iter().filter(|s| *s == "OUTSIDE METHOD").count(), 2);
     assert_text(&svg, "limit 1.0");
-    assert_text(&svg, "utilisation (–), governing check of each detail");
+    assert_text(
+        &svg,
+        "utilisation (–): design life / fatigue life, governing check",
+    );
     // FAIL on the row of B01, not elsewhere.
     let fail_ys: Vec<f64> = parse(&svg)
         .descendants()

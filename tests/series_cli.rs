@@ -255,7 +255,7 @@ fn constant_signal_gives_zero_damage_and_says_so() {
 fn series_and_blocks_combine_in_one_component() {
     // Damage is additive over loading events (Palmgren-Miner), so a component holding a
     // series and a block event has the sum of the two damages when both sit above the
-    // constant-amplitude rule (EN 1993-1-9 A.5, common practice).
+    // constant-amplitude rule (EN 1993-1-9 A.6, common practice).
     let dir = tempfile::tempdir().unwrap();
     std::fs::copy(record(), dir.path().join("rec.csv")).unwrap();
     let s = "            file: rec.csv\n            column: sg4_microstrain\n            unit: microstrain\n            modulus_mpa: 210000\n            gate_mpa: 2\n";

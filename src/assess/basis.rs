@@ -15,6 +15,11 @@ pub struct ResolvedBasis {
     pub damage_limit: FactorUsed,
     pub interaction: Option<InteractionRule>,
     pub variant: Option<String>,
+    /// Measure of a component's check under variable amplitude, and its source.
+    pub check_form: UtilisationForm,
+    pub check_source: String,
+    /// Constant amplitude: measure, the damage limit it is equivalent to, and source.
+    pub constant_amplitude: (UtilisationForm, f64, String),
 }
 
 fn factor(family_value: f64, source: &str, ov: &Option<crate::input::Override>) -> FactorUsed {
@@ -74,13 +79,24 @@ pub fn resolve_basis(file: &ProjectFile, fam: &Family) -> ResolvedBasis {
                 .unwrap_or(i.source.clone()),
         }
     });
+    let damage_limit = factor(dl, &dl_source, &b.damage_limit);
+    let v = &fam.verification;
+    // Constant amplitude follows the family's own rule where it has one (IIW: on the
+    // range, D <= 1); otherwise the same check and limit as variable amplitude.
+    let constant_amplitude = match &v.constant_amplitude {
+        Some(ca) => (ca.form, ca.damage_limit, ca.source.clone()),
+        None => (v.utilisation, damage_limit.value, v.source.clone()),
+    };
     ResolvedBasis {
         design_life_years: b.design_life_years,
         gamma_ff: factor(pf.gamma_ff.value, &pf.gamma_ff.source, &b.gamma_ff),
         gamma_mf: factor(gmf, &gmf_source, &b.gamma_mf),
-        damage_limit: factor(dl, &dl_source, &b.damage_limit),
+        damage_limit,
         interaction,
         variant: b.curve_variant.clone(),
+        check_form: v.utilisation,
+        check_source: v.source.clone(),
+        constant_amplitude,
     }
 }
 
@@ -153,20 +169,21 @@ pub(super) fn basis_used(file: &ProjectFile, fam: &Family, basis: &ResolvedBasis
             source,
         });
     }
-    method.push(match fam.verification.utilisation {
-        UtilisationForm::RangeRatio => "Utilisation is the equivalent-range ratio γFf·ΔσE,2/(ks·ΔσC/γMf) = (D/D_lim)^(1/m₁), with ΔσE,2 the constant range at the reference cycles that does the same damage on the first curve segment.".into(),
-        UtilisationForm::DamageRatio => "Utilisation is the damage ratio D/D_lim.".into(),
-    });
+    method.push(format!(
+        "Each stress component is checked {} ({}).",
+        form_text(basis.check_form, basis.damage_limit.value),
+        basis.check_source
+    ));
     if let Some(i) = &basis.interaction {
         method.push(format!(
             "Where normal and shear stress act together, (γFf·ΔσE,2/ΔσC,d)^{} + (γFf·ΔτE,2/ΔτC,d)^{} must not exceed {} ({}).",
             i.normal_exponent, i.shear_exponent, i.limit, i.source
         ));
     }
-    method.push("The reserve factor is the largest factor on all stress ranges for which the governing check still passes; the required category is the lowest listed category that passes.".into());
+    method.push("The reserve factor is the largest factor on all stress ranges for which every check still passes; the required category is the lowest listed category that passes.".into());
     let ms = &fam.mean_stress;
     let mean_stress_rule = format!(
-        "{}; cases: {}; default `{}`. The rule acts only on blocks that give max and min (or range and mean).",
+        "{}; cases: {}; default `{}`. The rule acts on normal stress only, and only on blocks that give max and min (or range and mean); shear ranges count in full.",
         ms.source,
         ms.cases
             .iter()
@@ -194,10 +211,7 @@ pub(super) fn basis_used(file: &ProjectFile, fam: &Family, basis: &ResolvedBasis
         gamma_ff: basis.gamma_ff.clone(),
         gamma_mf: basis.gamma_mf.clone(),
         damage_limit: basis.damage_limit.clone(),
-        utilisation_form: match fam.verification.utilisation {
-            UtilisationForm::RangeRatio => "range-ratio".into(),
-            UtilisationForm::DamageRatio => "damage-ratio".into(),
-        },
+        utilisation_form: fam.verification.utilisation.as_str().into(),
         verification_source: fam.verification.source.clone(),
         interaction: basis.interaction.clone(),
         curves,
@@ -207,6 +221,72 @@ pub(super) fn basis_used(file: &ProjectFile, fam: &Family, basis: &ResolvedBasis
             "γFf·Δσ ≤ {}·fy and γFf·Δτ ≤ {:.4}·fy ({})",
             v.normal_fy_factor, v.shear_fy_factor, v.source
         ),
+        amplitude_rule: amplitude_rule(basis),
+        constant_amplitude_form: basis.constant_amplitude.0.as_str().into(),
+        constant_amplitude_damage_limit: basis.constant_amplitude.1,
+        utilisation_rule: UTILISATION_RULE.into(),
         method,
+        judgements: judgements(fam, basis),
     }
+}
+
+/// What "utilisation" means in every family's results.
+pub const UTILISATION_RULE: &str = "Utilisation is the design life divided by the fatigue life, the time at which the first check reaches its limit: for one stress component it is D/D_lim, for combined stresses the interaction check's share; it grows in proportion to time, so life = design life / utilisation, and a detail passes when it is at most 1.0. Each check is also stated in its own measure (stress ratio, damage ratio or interaction sum); the governing check is the one with the largest utilisation, which also limits life and reserve factor.";
+
+/// A check's form in words.
+fn form_text(form: UtilisationForm, dlim: f64) -> String {
+    match form {
+        UtilisationForm::RangeRatio => format!("by the equivalent-range ratio γFf·ΔσE,2/ΔσC,d = (D/D_lim)^(1/m₁) ≤ 1.0 with D_lim = {dlim}, ΔσE,2 being the constant range at the reference cycles that uses the same fraction of the damage limit on the first curve segment"),
+        UtilisationForm::DamageRatio => format!("by the Palmgren-Miner ratio D/D_lim ≤ 1.0 with D_lim = {dlim}"),
+        UtilisationForm::RangeAtCycles => format!("on the range: the design range γFf·Δσ must not exceed the design resistance ΔσR,d at the applied number of cycles (equivalent to D ≤ {dlim})"),
+    }
+}
+
+/// How constant amplitude is told apart and verified.
+fn amplitude_rule(basis: &ResolvedBasis) -> String {
+    let (form, dlim, source) = &basis.constant_amplitude;
+    format!(
+        "A component is constant amplitude when the project file says so (`amplitude: constant`), or, when it says nothing, when every block is given in the file with one and the same design range; blocks of different ranges and every counted record are variable amplitude. The constant-amplitude fatigue limit acts on constant-amplitude loading only. Constant amplitude is checked {} ({source}); variable amplitude {} ({}).",
+        form_text(*form, *dlim),
+        form_text(basis.check_form, basis.damage_limit.value),
+        basis.check_source
+    )
+}
+
+/// The judgement calls the engine makes, stated for the checker.
+fn judgements(fam: &Family, basis: &ResolvedBasis) -> Vec<String> {
+    let mut out = Vec::new();
+    for c in [Component::Normal, Component::Shear] {
+        let def = fam.curves.get(c);
+        let segs = fam
+            .segments(c, basis.variant.as_deref())
+            .unwrap_or(&def.segments);
+        if let Some(k) = def.constant_amplitude_limit_knee {
+            if let Some(next) = segs.get(k) {
+                let sym = segs[k - 1]
+                    .knee_symbol
+                    .clone()
+                    .unwrap_or_else(|| format!("knee {k}"));
+                out.push(format!(
+                    "Under variable amplitude, {} cycles below {sym} still damage, on the m = {} segment{}; only constant-amplitude loading at or below {sym} is free of damage.",
+                    c.as_str(),
+                    next.slope_m,
+                    if next.end_cycles.is_some() { " down to the cut-off" } else { "" }
+                ));
+            }
+        }
+    }
+    if fam
+        .mean_stress
+        .cases
+        .values()
+        .any(|c| c.enhancement_points.as_ref().is_some_and(|p| !p.is_empty()))
+    {
+        out.push("A fully compressive cycle (σmax ≤ 0) takes the largest enhancement f(R) of its mean-stress case, that of the lowest stress ratio given (common practice; the code defines f(R) by the stress ratio, which does not order compressive cycles).".into());
+    }
+    out.push(
+        "Mean-stress rules act on normal stress only; shear stress ranges count in full.".into(),
+    );
+    out.push("Each range-mean cell of a counted record enters the damage sum at the largest range counted in it and its cycle-weighted mean, so every counted cycle is represented at or above its own range.".into());
+    out
 }

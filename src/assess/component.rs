@@ -5,11 +5,11 @@
 use super::corrections::{mean_stress_factor, size_correction};
 use super::curve::SnCurve;
 use super::fmt_cycles;
-use super::verify::{Checks, Prepared};
+use super::verify::{Part, Prepared};
 use super::ResolvedBasis;
-use crate::catalogue::{CatalogueEntry, Component, Family, MeanStressCase};
+use crate::catalogue::{CatalogueEntry, Component, Family, MeanStressCase, UtilisationForm};
 use crate::histories::{ComponentHistory, DetailHistory};
-use crate::input::Detail;
+use crate::input::{Amplitude, Detail};
 use crate::results::*;
 
 /// A component with its category and corrections resolved, ready to assess.
@@ -22,6 +22,8 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) case_key: String,
     pub(super) case: &'a MeanStressCase,
     pub(super) history: &'a ComponentHistory,
+    /// Constant or variable amplitude as stated in the project file.
+    pub(super) amplitude: Option<Amplitude>,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -87,15 +89,30 @@ pub(super) fn component_setups<'a>(
             (None, Some(cat)) => (cat, "catalogue"),
             (None, None) => (f64::NAN, "missing"),
         };
+        let size = size_correction(fam, det, entry, comp);
+        if comp == Component::Normal
+            && entry.is_none()
+            && size.exponent.is_none()
+            && size.effective_thickness_mm > fam.thickness.reference_mm
+        {
+            found.warn(
+                "size-effect-not-applied",
+                format!(
+                    "thickness {} mm exceeds the reference {} mm, but the category is set by hand without a catalogue entry and no `thickness_exponent` is given, so no size effect reduces it ({}); set `thickness_exponent` when the detail's table gives a size effect",
+                    size.effective_thickness_mm, fam.thickness.reference_mm, fam.thickness.source
+                ),
+            );
+        }
         setups.push(ComponentSetup {
             comp,
             category,
             category_source: source.into(),
             catalogue_category: from_cat,
-            size: size_correction(fam, det, entry, comp),
+            size,
             case_key: case_key.clone(),
             case,
             history: h,
+            amplitude: ci.amplitude,
         });
     }
     setups
@@ -147,7 +164,12 @@ fn block_results(
     let mut acted = false;
     let mut max_range: f64 = 0.0;
     for b in &s.history.blocks {
-        let f = mean_stress_factor(s.case, b.max_mpa, b.min_mpa);
+        // The mean-stress rules act on normal stress only (EN 1993-1-9 7.2.1(1), IIW f(R)):
+        // shear ranges count in full.
+        let f = match s.comp {
+            Component::Normal => mean_stress_factor(s.case, b.max_mpa, b.min_mpa),
+            Component::Shear => 1.0,
+        };
         if b.max_mpa.is_some() && (f - 1.0).abs() > 1e-15 {
             acted = true;
         }
@@ -200,7 +222,7 @@ fn damage_sum(
                 b.segment = Some(seg);
                 b.endurance_cycles = Some(n);
                 if !ca_applied {
-                    // Palmgren-Miner: Dᵢ = nᵢ/Nᵢ (EN 1993-1-9 A.5, common practice)
+                    // Palmgren-Miner: Dᵢ = nᵢ/Nᵢ (EN 1993-1-9 A.6, common practice)
                     b.damage = b.cycles_design_life / n;
                 }
                 bands[seg - 1].0 += b.cycles_design_life;
@@ -267,17 +289,77 @@ fn band_table(
     damage_by_band
 }
 
-/// Assess one component over the design life. Returns its result, its prepared form
-/// for the life and reserve searches with the design reference range, and whether a
-/// range lies beyond the validity limit.
+/// Constant or variable amplitude, and why: the engineer's statement, else what the
+/// blocks show. A counted record is always variable amplitude.
+fn amplitude_of(
+    s: &ComponentSetup,
+    loads: &[(f64, f64)],
+    found: &mut Findings,
+) -> (Amplitude, String) {
+    let counted =
+        !s.history.counted.is_empty() || s.history.blocks.iter().any(|b| b.origin != "given");
+    let one_range = !loads.is_empty()
+        && loads
+            .iter()
+            .all(|(r, _)| (r - loads[0].0).abs() <= 1e-12 * loads[0].0);
+    match s.amplitude {
+        Some(Amplitude::Constant) if one_range && !counted => {
+            (Amplitude::Constant, "stated in the project file".into())
+        }
+        Some(Amplitude::Constant) => {
+            let (lo, hi) = loads
+                .iter()
+                .fold((f64::INFINITY, 0.0f64), |(lo, hi), &(r, _)| {
+                    (lo.min(r), hi.max(r))
+                });
+            found.warn(
+                "amplitude-not-constant",
+                format!(
+                    "{} loading is stated as constant amplitude, but its design ranges run from {lo:.2} to {hi:.2} MPa after the mean-stress rule; it is assessed as variable amplitude",
+                    s.comp.as_str()
+                ),
+            );
+            (
+                Amplitude::Variable,
+                "stated constant, but the design ranges differ".into(),
+            )
+        }
+        Some(Amplitude::Variable) => (Amplitude::Variable, "stated in the project file".into()),
+        None if counted => (
+            Amplitude::Variable,
+            "counted from a record: variable amplitude".into(),
+        ),
+        None if one_range => (
+            Amplitude::Constant,
+            "every block is given with one and the same design range".into(),
+        ),
+        None => (
+            Amplitude::Variable,
+            "the given blocks differ in design range".into(),
+        ),
+    }
+}
+
+/// The design resistance at n cycles for a check on the range under constant
+/// amplitude: the design curve down to the constant-amplitude fatigue limit, and that
+/// limit beyond it (constant amplitude at or below it does not damage).
+fn resistance_at(design: &SnCurve, ca_limit: Option<f64>, n: f64) -> f64 {
+    let on_curve = design.range_at(n);
+    match ca_limit {
+        Some(lim) => on_curve.max(lim),
+        None => on_curve,
+    }
+}
+
+/// Assess one component over the design life. Returns its result, what the detail's
+/// verification needs of it, and whether a range lies beyond the validity limit.
 pub(super) fn assess_component(
     fam: &Family,
     basis: &ResolvedBasis,
-    checks: &Checks,
     s: &ComponentSetup,
     fy: f64,
     found: &mut Findings,
-) -> (ComponentResult, (Prepared, f64), bool) {
+) -> (ComponentResult, Part, bool) {
     let gff = basis.gamma_ff.value;
     let gmf = basis.gamma_mf.value;
     let years = basis.design_life_years;
@@ -289,18 +371,17 @@ pub(super) fn assess_component(
             Component::Shear => fam.validity.shear_fy_factor,
         };
     let (mut blocks, loads, acted, max_range) = block_results(s, gff, years);
-    // Constant amplitude: every block has the same design range.
-    let constant_amplitude = !loads.is_empty()
-        && loads
-            .iter()
-            .all(|(r, _)| (r - loads[0].0).abs() <= 1e-12 * loads[0].0);
+    let (amplitude, amplitude_basis) = amplitude_of(s, &loads, found);
+    let constant_amplitude = amplitude == Amplitude::Constant;
     let ca_ratio = if constant_amplitude {
         cv.ca_limit_ratio
     } else {
         None
     };
+    // The constant-amplitude fatigue limit acts on constant-amplitude loading only
+    // (EN 1993-1-9 7.1 and Fig. 7.1; IIW knee point): every design range at or below it.
     let ca_applied = match ca_limit {
-        Some(lim) => constant_amplitude && loads[0].0 <= lim,
+        Some(lim) => constant_amplitude && loads.iter().all(|(r, _)| *r <= lim),
         None => false,
     };
     let (damage, below, bands) = damage_sum(&mut blocks, &cv.design, ca_applied);
@@ -346,20 +427,40 @@ pub(super) fn assess_component(
             .enhancement_points
             .as_ref()
             .is_some_and(|p| !p.is_empty());
-    if rule_can_act && s.history.blocks.iter().any(|b| b.max_mpa.is_none()) {
+    if s.comp == Component::Normal
+        && rule_can_act
+        && s.history.blocks.iter().any(|b| b.max_mpa.is_none())
+    {
         found.warn(
             "mean-stress-not-applied",
             format!(
-                "mean-stress case `{}` cannot act on {} blocks given as a range only; the full range is used for them",
-                s.case_key,
-                s.comp.as_str()
+                "mean-stress case `{}` cannot act on normal-stress blocks given as a range only; the full range is used for them",
+                s.case_key
             ),
         );
     }
+    let (form, dlim, source) = if constant_amplitude {
+        basis.constant_amplitude.clone()
+    } else {
+        (
+            basis.check_form,
+            basis.damage_limit.value,
+            basis.check_source.clone(),
+        )
+    };
+    let range_check = match form {
+        UtilisationForm::RangeAtCycles => Some((
+            loads.iter().map(|l| l.0).fold(0.0, f64::max),
+            resistance_at(&cv.design, ca_limit, total_cycles),
+        )),
+        _ => None,
+    };
     let m1 = cv.design.slopes[0];
     let damage_per_year = damage / years;
-    // Equivalent range at the reference cycles: γFf·ΔσE,2 = ΔσC,d·D^(1/m1) (EN 1993-1-9 eq. (8.2), A.5)
-    let design_equivalent = cv.design_ref * damage.powf(1.0 / m1);
+    let u = damage / dlim;
+    // Equivalent range at the reference cycles, at the damage limit:
+    // γFf·ΔσE,2 = ΔσC,d·(D/D_lim)^(1/m1) (EN 1993-1-9 eq. (8.2) with A.6; IIW equivalent range)
+    let design_equivalent = cv.design_ref * u.powf(1.0 / m1);
     let result = ComponentResult {
         component: s.comp.as_str().into(),
         symbol: sym.clone(),
@@ -377,6 +478,7 @@ pub(super) fn assess_component(
                 "enhancement".into()
             },
             source: fam.mean_stress.source.clone(),
+            applies: s.comp == Component::Normal,
             acted,
         },
         corrected_category_mpa: cv.corrected,
@@ -386,20 +488,24 @@ pub(super) fn assess_component(
         characteristic_curve: cv.characteristic.to_result(),
         design_curve: cv.design.to_result(),
         constant_amplitude_limit_mpa: ca_limit,
+        amplitude: amplitude.as_str().into(),
+        amplitude_basis,
         constant_amplitude_rule_applied: ca_applied,
+        resistance_at_cycles_mpa: range_check.map(|r| r.1),
         blocks,
         damage_by_band,
         damage_per_year,
         damage,
-        damage_limit: checks.dlim,
+        damage_limit: dlim,
         equivalent_slope_m: m1,
         equivalent_range_mpa: design_equivalent / gff,
         design_equivalent_range_mpa: design_equivalent,
-        range_ratio: checks.ratio(damage, m1),
-        utilisation: checks.utilisation(damage, m1),
+        // (D/D_lim)^(1/m1) = γFf·ΔσE,2/ΔσC,d (EN 1993-1-9 eq. (8.2))
+        range_ratio: u.powf(1.0 / m1),
+        utilisation: u,
         life_years: if damage_per_year > 0.0 {
             // life = D_lim / (D per year) (Palmgren-Miner, linear in time)
-            Some(checks.dlim / damage_per_year)
+            Some(dlim / damage_per_year)
         } else {
             None
         },
@@ -410,10 +516,20 @@ pub(super) fn assess_component(
         validity_limit_mpa: validity_limit,
         counted: s.history.counted.clone(),
     };
-    let prepared = Prepared {
-        unit: cv.unit,
-        ca_ratio,
-        loads,
+    let part = Part {
+        comp: s.comp,
+        m1,
+        dlim,
+        form,
+        source,
+        prepared: Prepared {
+            unit: cv.unit,
+            ca_ratio,
+            loads,
+        },
+        design_ref: cv.design_ref,
+        size_factor: s.size.factor,
+        range_check,
     };
-    (result, (prepared, cv.design_ref), outside)
+    (result, part, outside)
 }

@@ -21,20 +21,18 @@ pub use basis::{resolve_basis, ResolvedBasis};
 use component::{assess_component, component_setups, Findings};
 pub use corrections::{enhancement, mean_stress_factor};
 pub use curve::SnCurve;
-use verify::{verify_detail, Checks};
+use verify::{verify_detail, InteractionCheck};
 
 /// Assess every detail of a project. `family` must be the project's family.
 pub fn assess(project: &Project, fam: &Family, histories: &ProjectHistories) -> Results {
     let file = &project.file;
     let basis = resolve_basis(file, fam);
-    let checks = Checks {
-        form: fam.verification.utilisation,
-        dlim: basis.damage_limit.value,
-        interaction: basis
-            .interaction
-            .as_ref()
-            .map(|i| (i.normal_exponent, i.shear_exponent, i.limit)),
-    };
+    let interaction = basis.interaction.as_ref().map(|i| InteractionCheck {
+        normal_exponent: i.normal_exponent,
+        shear_exponent: i.shear_exponent,
+        limit: i.limit,
+        source: i.source.clone(),
+    });
     let mut details = Vec::with_capacity(file.details.len());
     let mut used_keys: Vec<&str> = Vec::new();
     for (det, hist) in file.details.iter().zip(&histories.details) {
@@ -43,7 +41,14 @@ pub fn assess(project: &Project, fam: &Family, histories: &ProjectHistories) -> 
                 used_keys.push(k);
             }
         }
-        details.push(assess_detail(file, fam, &basis, &checks, det, hist));
+        details.push(assess_detail(
+            file,
+            fam,
+            &basis,
+            interaction.as_ref(),
+            det,
+            hist,
+        ));
     }
     let catalogue_used = catalogue_used(fam, used_keys);
     let summary = summary(&details);
@@ -150,7 +155,7 @@ fn assess_detail(
     file: &ProjectFile,
     fam: &Family,
     basis: &ResolvedBasis,
-    checks: &Checks,
+    interaction: Option<&InteractionCheck>,
     det: &Detail,
     hist: &DetailHistory,
 ) -> DetailResult {
@@ -163,23 +168,27 @@ fn assess_detail(
     let mut found = Findings::default();
     let setups = component_setups(fam, det, entry, hist, &mut found);
     let mut comps = Vec::with_capacity(setups.len());
-    let mut prepared = Vec::with_capacity(setups.len());
+    let mut parts = Vec::with_capacity(setups.len());
     let mut outside = false;
     for s in &setups {
-        let (c, p, out) = assess_component(fam, basis, checks, s, fy, &mut found);
+        let (c, p, out) = assess_component(fam, basis, s, fy, &mut found);
         comps.push(c);
-        prepared.push(p);
+        parts.push(p);
         outside |= out;
     }
-    let v = verify_detail(fam, basis, checks, &setups, &mut comps, &prepared);
+    let v = verify_detail(fam, basis, interaction, &parts, &mut comps);
     let status = if outside {
         Status::OutsideMethod
-    } else if v.utilisation <= 1.0 + verify::PASS_TOLERANCE {
+    } else if v.checks.iter().all(|c| c.passes) {
         Status::Pass
     } else {
         Status::Fail
     };
-    let damage = comps.iter().map(|c| c.damage).fold(0.0, f64::max);
+    // The largest component damage, with the limit of that component's check.
+    let (damage, damage_limit) = comps.iter().map(|c| (c.damage, c.damage_limit)).fold(
+        (0.0, basis.damage_limit.value),
+        |a, b| if b.0 > a.0 { b } else { a },
+    );
     DetailResult {
         id: det.id.clone(),
         location: det.location.clone(),
@@ -193,8 +202,9 @@ fn assess_detail(
         status,
         utilisation: v.utilisation,
         governing_check: v.governing_check,
+        checks: v.checks,
         damage,
-        damage_limit: checks.dlim,
+        damage_limit,
         life_years: v.life_years,
         reserve_factor: v.reserve_factor,
         required_category: v.required_category,

@@ -1,11 +1,11 @@
-//! Verification of one detail: the checks over a period, and the searches for life,
+//! Verification of one detail: every check in its own measure, the utilisation (design
+//! life over fatigue life) that compares them like with like, and the searches for
 //! reserve factor and required category on the same checks.
 
-use super::component::ComponentSetup;
 use super::curve::SnCurve;
 use super::ResolvedBasis;
 use crate::catalogue::{Component, Family, UtilisationForm};
-use crate::results::{ComponentResult, InteractionResult};
+use crate::results::{CheckResult, ComponentResult, InteractionResult};
 
 /// Relative tolerance on a verification value of exactly 1.0.
 pub(super) const PASS_TOLERANCE: f64 = 1e-12;
@@ -34,7 +34,7 @@ impl Prepared {
         self.loads
             .iter()
             .map(|&(r, n)| match self.unit.endurance(k * r / design_ref) {
-                // Palmgren-Miner: D = Σ n_i / N_i (EN 1993-1-9 A.5, common practice)
+                // Palmgren-Miner: D = Σ n_i / N_i (EN 1993-1-9 A.6, common practice)
                 Some((big_n, _)) => n / big_n,
                 None => 0.0,
             })
@@ -42,53 +42,63 @@ impl Prepared {
     }
 }
 
-/// The verification of one detail from component damages over a period.
-#[derive(Debug, Clone, Copy)]
-pub(super) struct Checks {
-    pub(super) form: UtilisationForm,
+/// What the verification needs of one assessed component.
+#[derive(Debug, Clone)]
+pub(super) struct Part {
+    pub(super) comp: Component,
+    /// Slope of the first curve segment (equivalent range, eq. (8.2) and (8.3) terms).
+    pub(super) m1: f64,
+    /// Damage limit of the component's check.
     pub(super) dlim: f64,
-    pub(super) interaction: Option<(f64, f64, f64)>,
+    /// Measure of the component's check.
+    pub(super) form: UtilisationForm,
+    pub(super) source: String,
+    pub(super) prepared: Prepared,
+    /// ks·ΔσC/γMf of the component.
+    pub(super) design_ref: f64,
+    /// Size factor, to move the curve to another category.
+    pub(super) size_factor: f64,
+    /// For a check on the range: (design range, design resistance at the cycle count).
+    pub(super) range_check: Option<(f64, f64)>,
 }
 
-impl Checks {
-    /// Equivalent-range ratio (D/D_lim)^(1/m1) (EN 1993-1-9 eq. (8.2) when D_lim = 1).
-    pub(super) fn ratio(&self, d: f64, m1: f64) -> f64 {
-        (d / self.dlim).powf(1.0 / m1)
-    }
+/// The interaction rule in force: exponents, limit and source.
+#[derive(Debug, Clone)]
+pub(super) struct InteractionCheck {
+    pub(super) normal_exponent: f64,
+    pub(super) shear_exponent: f64,
+    pub(super) limit: f64,
+    pub(super) source: String,
+}
 
-    pub(super) fn utilisation(&self, d: f64, m1: f64) -> f64 {
-        match self.form {
-            UtilisationForm::RangeRatio => self.ratio(d, m1),
-            UtilisationForm::DamageRatio => d / self.dlim,
+impl InteractionCheck {
+    fn exponent(&self, c: Component) -> f64 {
+        match c {
+            Component::Normal => self.normal_exponent,
+            Component::Shear => self.shear_exponent,
         }
     }
 
-    /// Governing value: the largest of the component utilisations and the interaction
-    /// expression over its limit. `parts` is (damage, m1, component).
-    pub(super) fn governing(&self, parts: &[(f64, f64, Component)]) -> (f64, String) {
-        let mut best = (0.0, String::new());
-        for &(d, m1, c) in parts {
-            let u = self.utilisation(d, m1);
-            if u > best.0 || best.1.is_empty() {
-                best = (u, c.as_str().to_string());
-            }
-        }
-        if let Some(v) = self.interaction_value(parts) {
-            if v > best.0 {
-                best = (v, "interaction".into());
-            }
-        }
-        best
+    /// The interaction sum over its limit for damage ratios u = D/D_lim per part: each
+    /// term is the equivalent-range ratio u^(1/m1) to the rule's exponent
+    /// (EN 1993-1-9 eq. (8.3) form).
+    fn value(&self, parts: &[Part], u: &[f64]) -> f64 {
+        parts
+            .iter()
+            .zip(u)
+            .map(|(p, &ui)| ui.powf(self.exponent(p.comp) / p.m1))
+            .sum::<f64>()
+            / self.limit
     }
+}
 
-    /// Interaction expression divided by its limit, when both components are present.
-    fn interaction_value(&self, parts: &[(f64, f64, Component)]) -> Option<f64> {
-        let (en, es, lim) = self.interaction?;
-        let n = parts.iter().find(|p| p.2 == Component::Normal)?;
-        let s = parts.iter().find(|p| p.2 == Component::Shear)?;
-        // (ratio_σ)^e_σ + (ratio_τ)^e_τ <= limit (EN 1993-1-9 eq. (8.3) form)
-        Some((self.ratio(n.0, n.1).powf(en) + self.ratio(s.0, s.1).powf(es)) / lim)
+/// The worst check on the damage scale (1.0 at every limit) for damage ratios u.
+fn worst(parts: &[Part], interaction: Option<&InteractionCheck>, u: &[f64]) -> f64 {
+    let mut w = u.iter().copied().fold(0.0, f64::max);
+    if let (Some(i), 2) = (interaction, parts.len()) {
+        w = w.max(i.value(parts, u));
     }
+    w
 }
 
 /// Largest x in (0, ∞) with f(x) <= 1 for a non-decreasing f, by bisection on log x.
@@ -137,15 +147,62 @@ pub(super) fn sup_passing(f: impl Fn(f64) -> f64) -> Option<f64> {
     Some(lo)
 }
 
-/// The verification of one detail over the design life, with the searches that rest on
-/// it.
+/// The verification of one detail and the searches that rest on it.
 pub(super) struct Verdict {
     pub(super) utilisation: f64,
     pub(super) governing_check: String,
+    pub(super) checks: Vec<CheckResult>,
     pub(super) interaction: Option<InteractionResult>,
     pub(super) life_years: Option<f64>,
     pub(super) reserve_factor: Option<f64>,
     pub(super) required_category: Option<f64>,
+}
+
+/// Design life over the life at which the interaction check reaches its limit. The
+/// damage ratios grow in proportion to time, so the check at time s·T is
+/// Σ (s·uᵢ)^(eᵢ/m₁ᵢ) / limit.
+fn interaction_utilisation(i: &InteractionCheck, parts: &[Part], u: &[f64]) -> f64 {
+    let at_design_life = i.value(parts, u);
+    if at_design_life <= 0.0 {
+        return 0.0;
+    }
+    let powers: Vec<f64> = parts.iter().map(|p| i.exponent(p.comp) / p.m1).collect();
+    if powers
+        .iter()
+        .all(|&q| (q - powers[0]).abs() <= 1e-12 * powers[0])
+    {
+        // one power q: the check is (s)^q times its value at the design life
+        return at_design_life.powf(1.0 / powers[0]);
+    }
+    match sup_passing(|s| {
+        let at: Vec<f64> = u.iter().map(|x| x * s).collect();
+        i.value(parts, &at)
+    }) {
+        Some(s) if s > 0.0 => 1.0 / s,
+        Some(_) => f64::INFINITY,
+        None => 0.0,
+    }
+}
+
+/// The check of one component in its own measure.
+fn component_check(p: &Part, u: f64) -> CheckResult {
+    let value = match (p.form, p.range_check) {
+        // γFf·Δσ/ΔσR,d(n) for constant amplitude (IIW range check)
+        (UtilisationForm::RangeAtCycles, Some((range, resistance))) => range / resistance,
+        // D/D_lim (Palmgren-Miner ratio)
+        (UtilisationForm::DamageRatio, _) => u,
+        // γFf·ΔσE,2/ΔσC,d = (D/D_lim)^(1/m1) (EN 1993-1-9 eq. (8.2))
+        _ => u.powf(1.0 / p.m1),
+    };
+    CheckResult {
+        name: p.comp.as_str().into(),
+        form: p.form.as_str().into(),
+        value,
+        limit: 1.0,
+        utilisation: u,
+        passes: value <= 1.0 + PASS_TOLERANCE,
+        source: p.source.clone(),
+    }
 }
 
 /// Verify a detail from its assessed components; fills each component's required
@@ -153,68 +210,74 @@ pub(super) struct Verdict {
 pub(super) fn verify_detail(
     fam: &Family,
     basis: &ResolvedBasis,
-    checks: &Checks,
-    setups: &[ComponentSetup],
+    interaction: Option<&InteractionCheck>,
+    parts: &[Part],
     comps: &mut [ComponentResult],
-    prepared: &[(Prepared, f64)],
 ) -> Verdict {
-    let gmf = basis.gamma_mf.value;
     let years = basis.design_life_years;
-    // Verification over the design life.
-    let parts: Vec<(f64, f64, Component)> = comps
+    let u: Vec<f64> = comps
         .iter()
-        .zip(setups)
-        .map(|(c, s)| (c.damage, c.equivalent_slope_m, s.comp))
+        .zip(parts)
+        .map(|(c, p)| c.damage / p.dlim)
         .collect();
-    let (utilisation, governing_check) = checks.governing(&parts);
-    let interaction = match (checks.interaction, parts.len()) {
-        (Some((en, es, lim)), 2) => {
-            let rn = checks.ratio(parts[0].0, parts[0].1);
-            let rs = checks.ratio(parts[1].0, parts[1].1);
-            Some(InteractionResult {
-                normal_ratio: rn,
-                shear_ratio: rs,
-                normal_exponent: en,
-                shear_exponent: es,
-                value: rn.powf(en) + rs.powf(es),
-                limit: lim,
-                source: basis
-                    .interaction
-                    .as_ref()
-                    .map(|i| i.source.clone())
-                    .unwrap_or_default(),
-            })
+    let mut checks: Vec<CheckResult> = parts
+        .iter()
+        .zip(&u)
+        .map(|(p, &ui)| component_check(p, ui))
+        .collect();
+    let mut interaction_result = None;
+    if let (Some(i), 2) = (interaction, parts.len()) {
+        let ratio = |k: usize| u[k].powf(1.0 / parts[k].m1);
+        let value = i.value(parts, &u) * i.limit;
+        interaction_result = Some(InteractionResult {
+            normal_ratio: ratio(0),
+            shear_ratio: ratio(1),
+            normal_exponent: i.normal_exponent,
+            shear_exponent: i.shear_exponent,
+            value,
+            limit: i.limit,
+            source: i.source.clone(),
+        });
+        checks.push(CheckResult {
+            name: "interaction".into(),
+            form: "interaction".into(),
+            value,
+            limit: i.limit,
+            utilisation: interaction_utilisation(i, parts, &u),
+            passes: value <= i.limit * (1.0 + PASS_TOLERANCE),
+            source: i.source.clone(),
+        });
+    }
+    // Governing: the check that reaches its limit first, i.e. the largest utilisation.
+    let mut governing = 0;
+    for (k, c) in checks.iter().enumerate() {
+        if c.utilisation > checks[governing].utilisation {
+            governing = k;
         }
-        _ => None,
-    };
-
-    // Life: the largest number of years for which the governing check passes.
-    let per_year: Vec<(f64, f64, Component)> = prepared
-        .iter()
-        .zip(&parts)
-        .map(|((p, r), part)| (p.damage_per_year(*r, 1.0), part.1, part.2))
-        .collect();
-    let life_years = if per_year.iter().all(|p| p.0 <= 0.0) {
-        None
+    }
+    let utilisation = checks.get(governing).map(|c| c.utilisation).unwrap_or(0.0);
+    let governing_check = checks
+        .get(governing)
+        .map(|c| c.name.clone())
+        .unwrap_or_default();
+    let life_years = if utilisation > 0.0 {
+        // life = design life / utilisation: every damage ratio grows in proportion to time
+        Some(years / utilisation)
     } else {
-        sup_passing(|t| {
-            let at: Vec<_> = per_year.iter().map(|&(d, m, c)| (d * t, m, c)).collect();
-            checks.governing(&at).0
-        })
+        None
     };
 
-    // Reserve factor: the largest factor on all ranges for which the check passes.
-    let check_at = |k: f64, cats: &[f64]| -> f64 {
-        let at: Vec<_> = prepared
+    // Reserve factor: the largest factor on all ranges for which every check passes.
+    let check_at = |k: f64, refs: &[f64]| -> f64 {
+        let at: Vec<f64> = parts
             .iter()
-            .zip(&parts)
-            .zip(cats)
-            .map(|(((p, _), part), &r)| (p.damage_per_year(r, k) * years, part.1, part.2))
+            .zip(refs)
+            .map(|(p, &r)| p.prepared.damage_per_year(r, k) * years / p.dlim)
             .collect();
-        checks.governing(&at).0
+        worst(parts, interaction, &at)
     };
-    let refs: Vec<f64> = prepared.iter().map(|(_, r)| *r).collect();
-    let reserve_factor = if prepared.is_empty() {
+    let refs: Vec<f64> = parts.iter().map(|p| p.design_ref).collect();
+    let reserve_factor = if parts.is_empty() {
         None
     } else {
         sup_passing(|k| check_at(k, &refs))
@@ -222,12 +285,14 @@ pub(super) fn verify_detail(
 
     // Required category, per component: lowest listed category that passes with the
     // other components unchanged.
-    for (i, s) in setups.iter().enumerate() {
-        let mut cats = fam.curves.get(s.comp).categories_mpa.clone();
+    let gmf = basis.gamma_mf.value;
+    for (i, p) in parts.iter().enumerate() {
+        let mut cats = fam.curves.get(p.comp).categories_mpa.clone();
         cats.sort_by(|a, b| a.total_cmp(b));
         let found = cats.into_iter().find(|&cat| {
             let mut r = refs.clone();
-            r[i] = s.size.factor * cat / gmf;
+            // ΔσC,d = ks·ΔσC/γMf (EN 1993-1-9 eq. (8.2) denominator)
+            r[i] = p.size_factor * cat / gmf;
             check_at(1.0, &r) <= 1.0 + PASS_TOLERANCE
         });
         comps[i].required_category_mpa = found;
@@ -246,7 +311,8 @@ pub(super) fn verify_detail(
     Verdict {
         utilisation,
         governing_check,
-        interaction,
+        checks,
+        interaction: interaction_result,
         life_years,
         reserve_factor,
         required_category,

@@ -156,21 +156,52 @@ pub struct DamageLimit {
     pub cases: BTreeMap<String, SourcedValue>,
 }
 
+/// The measure in which a component's check is stated.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum UtilisationForm {
-    /// (D/D_lim)^(1/m1): the equivalent-range ratio, e.g. EN 1993-1-9 eq. (8.2).
+    /// (D/D_lim)^(1/m1): the equivalent-range ratio γFf·ΔσE,2/ΔσC,d, e.g. EN 1993-1-9
+    /// eq. (8.2).
     RangeRatio,
     /// D/D_lim: the Palmgren-Miner ratio.
     DamageRatio,
+    /// γFf·Δσ/ΔσR,d(n): the design range over the design resistance at the cycle count
+    /// (constant amplitude only).
+    RangeAtCycles,
+}
+
+impl UtilisationForm {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            UtilisationForm::RangeRatio => "range-ratio",
+            UtilisationForm::DamageRatio => "damage-ratio",
+            UtilisationForm::RangeAtCycles => "range-at-cycles",
+        }
+    }
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Verification {
+    /// Form of the check of one stress component (under variable amplitude, and under
+    /// constant amplitude unless `constant_amplitude` says otherwise).
     pub utilisation: UtilisationForm,
     pub source: String,
     pub interaction: Option<Interaction>,
+    /// How constant-amplitude loading is verified where the code treats it apart.
+    #[serde(default)]
+    pub constant_amplitude: Option<ConstantAmplitudeCheck>,
+}
+
+/// The verification of constant-amplitude loading, where it differs from the
+/// Palmgren-Miner check of variable amplitude (IIW: on the range, i.e. D <= 1).
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ConstantAmplitudeCheck {
+    pub form: UtilisationForm,
+    /// Damage sum the check is equivalent to (1.0 for a check on the range).
+    pub damage_limit: f64,
+    pub source: String,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -331,6 +362,16 @@ impl Family {
                     "curves.{}.categories_mpa must list positive numbers",
                     c.as_str()
                 ));
+            }
+        }
+        if self.verification.utilisation == UtilisationForm::RangeAtCycles {
+            return Err("verification.utilisation: range-at-cycles applies to constant amplitude only; give it under verification.constant_amplitude".into());
+        }
+        if let Some(ca) = &self.verification.constant_amplitude {
+            if !(ca.damage_limit.is_finite() && ca.damage_limit > 0.0) {
+                return Err(
+                    "verification.constant_amplitude.damage_limit must be a positive number".into(),
+                );
             }
         }
         for strategy in ["safe-life", "damage-tolerant"] {

@@ -92,7 +92,7 @@ pub fn table(r: &Results) -> String {
     }
     let mut out = String::new();
     out.push_str(&format!(
-        "{} {} rev {} | family {} | design life {} years | γFf {} γMf {} D_lim {}\n\n",
+        "{} {} rev {} | family {} | design life {} years | γFf {} γMf {} D_lim {}{}\n\n",
         r.project.reference,
         r.project.title,
         r.project.revision,
@@ -100,7 +100,17 @@ pub fn table(r: &Results) -> String {
         r.basis.design_life_years,
         r.basis.gamma_ff.value,
         r.basis.gamma_mf.value,
-        r.basis.damage_limit.value
+        r.basis.damage_limit.value,
+        if r.basis.constant_amplitude_damage_limit != r.basis.damage_limit.value
+            || r.basis.constant_amplitude_form != r.basis.utilisation_form
+        {
+            format!(
+                " (constant amplitude: {}, D ≤ {})",
+                r.basis.constant_amplitude_form, r.basis.constant_amplitude_damage_limit
+            )
+        } else {
+            String::new()
+        }
     ));
     for (i, row) in rows.iter().enumerate() {
         let mut line = String::new();

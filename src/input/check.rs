@@ -467,6 +467,9 @@ fn check_component(
             }
         }
     }
+    if ci.amplitude == Some(Amplitude::Constant) {
+        check_constant_amplitude(c, ci, cp);
+    }
     if ci.loading.is_empty() {
         c.push(
             cp.key("loading"),
@@ -523,6 +526,42 @@ fn check_component(
         }
         if let Some(s) = &ev.series {
             check_series(c, s, &ep.key("series"));
+        }
+    }
+}
+
+/// Loading stated as constant amplitude must be blocks of one range: a counted record
+/// is variable amplitude by nature.
+fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath) {
+    let mut first: Option<f64> = None;
+    for (k, ev) in ci.loading.iter().enumerate() {
+        let ep = cp.key("loading").index(k);
+        if ev.series.is_some() {
+            c.push(
+                ep.key("series"),
+                InputErrorKind::InvalidValue,
+                "`amplitude: constant` cannot take a counted record: a measured or simulated series is variable amplitude".into(),
+                Some("remove `amplitude: constant`, or give the loading as blocks of one range".into()),
+            );
+            continue;
+        }
+        for (j, bl) in ev.blocks.iter().flatten().enumerate() {
+            let range = match (bl.range_mpa, bl.max_mpa, bl.min_mpa) {
+                (Some(r), _, _) => r,
+                // Δσ = σmax − σmin (common practice)
+                (None, Some(hi), Some(lo)) => hi - lo,
+                _ => continue,
+            };
+            match first {
+                None => first = Some(range),
+                Some(r0) if (range - r0).abs() > 1e-9 * r0.abs() => c.push(
+                    ep.key("blocks").index(j),
+                    InputErrorKind::InvalidValue,
+                    format!("`amplitude: constant` needs one stress range, but this block has {range} MPa and an earlier one {r0} MPa"),
+                    Some("blocks of different ranges are variable amplitude: remove `amplitude: constant` or use `amplitude: variable`".into()),
+                ),
+                Some(_) => {}
+            }
         }
     }
 }

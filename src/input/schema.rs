@@ -158,7 +158,28 @@ pub struct ComponentInput {
     /// Detail category (ΔσC or FAT) in MPa at the family's reference cycles.
     #[serde(default)]
     pub category: Option<f64>,
+    /// Constant or variable amplitude, as the engineer states it. Absent: constant when
+    /// every block is given in the file with one and the same range, else variable.
+    #[serde(default)]
+    pub amplitude: Option<Amplitude>,
     pub loading: Vec<LoadEvent>,
+}
+
+/// Whether a component's loading is constant or variable amplitude.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Amplitude {
+    Constant,
+    Variable,
+}
+
+impl Amplitude {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Amplitude::Constant => "constant",
+            Amplitude::Variable => "variable",
+        }
+    }
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]

@@ -125,7 +125,7 @@ pub(super) fn draw_utilisation(
     chart
         .configure_mesh()
         .disable_y_mesh()
-        .x_desc("utilisation (–), governing check of each detail")
+        .x_desc("utilisation (–): design life / fatigue life, governing check")
         .x_label_formatter(&x_fmt)
         .y_label_formatter(&y_fmt)
         .x_label_style(font(11.0, HPos::Center, VPos::Center))
