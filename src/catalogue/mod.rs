@@ -246,6 +246,12 @@ pub struct CatalogueEntry {
     pub thickness_exponent: Option<f64>,
     #[serde(default)]
     pub mean_stress_case: Option<String>,
+    /// Name of one of the family's `curves.normal.variants` whose segments replace the
+    /// normal-stress curve of every detail naming this entry, whatever the project's
+    /// `basis.curve_variant` (which still governs the shear curve and other details).
+    /// Absent: the normal curve of the project (main curve or its chosen variant).
+    #[serde(default)]
+    pub curve_variant: Option<String>,
 }
 
 impl CatalogueEntry {
@@ -400,6 +406,20 @@ impl Family {
                     ));
                 }
             }
+            if let Some(v) = &e.curve_variant {
+                if e.normal_category.is_none() {
+                    return Err(format!(
+                        "catalogue entry `{}`: curve_variant acts on the normal-stress curve, but the entry gives no normal_category",
+                        e.key
+                    ));
+                }
+                if !self.curves.normal.variants.contains_key(v) {
+                    return Err(format!(
+                        "catalogue entry `{}`: curve_variant `{v}` is not one of curves.normal.variants",
+                        e.key
+                    ));
+                }
+            }
         }
         Ok(())
     }
@@ -511,6 +531,42 @@ mod tests {
         assert_eq!(en.curves.normal.categories_mpa.len(), 14);
         // EN 1993-1-9 Table 3.1: safe life, high consequence γMf = 1.35
         assert_eq!(en.partial_factors.gamma_mf.table["safe-life"].high, 1.35);
+    }
+
+    #[test]
+    fn iiw_unwelded_entries_name_the_m5_base_metal_curve() {
+        let lib = Library::load(None).unwrap();
+        let iiw = lib.get("iiw").unwrap();
+        // IIW 3.2: unwelded steel base metal m = 5 to the knee at 1e7, m = 22 beyond (from memory)
+        let v = &iiw.curves.normal.variants["non-welded"];
+        assert_eq!(v.segments[0].slope_m, 5.0);
+        assert_eq!(v.segments[0].end_cycles, Some(1.0e7));
+        assert_eq!(v.segments[1].slope_m, 22.0);
+        for key in ["rolled-plate-plain", "plate-machine-cut"] {
+            assert_eq!(
+                iiw.entry(key).unwrap().curve_variant.as_deref(),
+                Some("non-welded"),
+                "{key}"
+            );
+        }
+        // IIW details 412 and 413: cruciform as welded 71, fillet toe 63 (from memory)
+        assert_eq!(
+            iiw.entry("cruciform-full-penetration")
+                .unwrap()
+                .normal_category,
+            Some(71.0)
+        );
+        assert_eq!(
+            iiw.entry("cruciform-fillet-toe").unwrap().normal_category,
+            Some(63.0)
+        );
+        // IIW 3.5.2: ends of longitudinal stiffeners n = 0.3 (from memory)
+        assert_eq!(
+            iiw.entry("attachment-longitudinal-over-300")
+                .unwrap()
+                .thickness_exponent,
+            Some(0.3)
+        );
     }
 
     #[test]
