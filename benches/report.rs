@@ -19,7 +19,7 @@ details:
     );
     let kinds = [
         "butt-transverse-shop-flat",
-        "stiffener-vertical-web",
+        "stiffener-vertical-l-upto-50",
         "attachment-longitudinal-over-100",
         "longitudinal-weld-automatic",
         "crane-web-flange-fillet",

@@ -353,6 +353,9 @@ pub struct ComponentResult {
     pub design_category_mpa: f64,
     pub characteristic_curve: CurveResult,
     pub design_curve: CurveResult,
+    /// A named curve variant in force for this component; `null`: the family's main
+    /// curve.
+    pub curve_variant: Option<CurveVariantUsed>,
     pub constant_amplitude_limit_mpa: Option<f64>,
     /// `constant` or `variable`.
     pub amplitude: String,
@@ -430,6 +433,17 @@ pub struct CatalogueEntryUsed {
     pub shear_category: Option<f64>,
     pub thickness_exponent: Option<f64>,
     pub mean_stress_case: Option<String>,
+    pub curve_variant: Option<String>,
+}
+
+/// A curve variant a component was assessed on.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct CurveVariantUsed {
+    pub name: String,
+    pub description: String,
+    /// `catalogue entry` (the detail type's own curve) or `project basis`.
+    pub from: String,
+    pub source: String,
 }
 
 /// The standing cautions printed by the command line and in the package.

@@ -258,15 +258,15 @@ fn unknown_category() {
 #[test]
 fn unknown_catalogue_detail() {
     let t = demo_with(
-        "detail: stiffener-vertical-web",
-        "detail: stiffener-vertical-wbe",
+        "detail: stiffener-vertical-l-upto-50",
+        "detail: stiffener-verticl-l-upto-50",
     );
     expect_error(
         &t,
         2,
         &[
             "not in the en1993-1-9 catalogue",
-            "did you mean `stiffener-vertical-web`?",
+            "did you mean `stiffener-vertical-l-upto-50`?",
         ],
     );
 }

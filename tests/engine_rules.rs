@@ -334,3 +334,55 @@ fn judgement_calls_are_stated() {
         .utilisation_rule
         .contains("design life divided by the fatigue life"));
 }
+
+#[test]
+fn iiw_unwelded_base_metal_uses_its_own_curve() {
+    // IIW `rolled-plate-plain`: FAT 160 on the unwelded steel curve, m = 5 to the knee at
+    // 1e7, m = 22 beyond (IIW 3.2, from memory), mean-stress case 1: f(R = -1) = 1.6
+    // (IIW 3.5.1, from memory). Safe life, high consequence γM = 1.30 (IIW Table 5.1, from
+    // memory): FAT_d = 123.0769 MPa, knee 123.0769·0.2^(1/5) = 89.2037 MPa.
+    // ±75 MPa (Δσ = 150, R = -1) -> Δσ_eff = 150/1.6 = 93.75 MPa, above the knee, m = 5:
+    // N = 2e6·(123.0769/93.75)^5 = 7.799320e6; 4e5 cycles a year for 20 years = 8e6,
+    // stated variable amplitude: D = 8e6/7.799320e6 = 1.025730, D/0.5 = 2.051461 (hand-worked).
+    let dir = tempfile::tempdir().unwrap();
+    let text = project(
+        "iiw",
+        "safe-life",
+        "high",
+        20.0,
+        "    detail: rolled-plate-plain
+    normal: {amplitude: variable, loading: [{event: e, per_year: 4e5, blocks: [{range_mpa: 150, mean_mpa: 0, cycles: 1}]}]}",
+    );
+    let r = assess_in(dir.path(), &text);
+    let c = &r.details[0].components[0];
+    let v = c.curve_variant.as_ref().unwrap();
+    assert_eq!(v.name, "non-welded");
+    assert_eq!(v.from, "catalogue entry");
+    assert_eq!(c.design_curve.slopes, vec![5.0, 22.0]);
+    assert!(close(c.design_curve.knees[0].range_mpa, 89.2037, 1e-6));
+    assert!(close(c.blocks[0].effective_range_mpa, 93.75, 1e-12));
+    assert!(close(c.damage, 1.025730, 1e-6));
+    assert!(close(r.details[0].utilisation, 2.051461, 1e-6));
+    // The welded curve (m = 3) would give N = 2e6·(123.0769/93.75)^3 = 4.525286e6 instead.
+    assert!(close(
+        c.blocks[0].endurance_cycles.unwrap(),
+        7.799320e6,
+        1e-6
+    ));
+    // A project may not choose the entry-only curve for all its details.
+    let lib = Library::load(None).unwrap();
+    let path = dir.path().join("all.yaml");
+    std::fs::write(
+        &path,
+        text.replace(
+            "consequence: high}",
+            "consequence: high, curve_variant: non-welded}",
+        ),
+    )
+    .unwrap();
+    let e = seamlife::run_project(&path, &lib).unwrap_err();
+    assert!(
+        e.to_string().contains("unknown curve variant `non-welded`"),
+        "{e}"
+    );
+}

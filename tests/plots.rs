@@ -217,6 +217,7 @@ fn component(
         design_category_mpa: cat / gamma_mf,
         design_curve: scaled(&characteristic, 1.0 / gamma_mf),
         characteristic_curve: characteristic,
+        curve_variant: None,
         constant_amplitude_limit_mpa: None,
         amplitude: "variable".into(),
         amplitude_basis: "the given blocks differ in design range".into(),

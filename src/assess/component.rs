@@ -24,6 +24,11 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) history: &'a ComponentHistory,
     /// Constant or variable amplitude as stated in the project file.
     pub(super) amplitude: Option<Amplitude>,
+    /// The curve variant in force: the catalogue entry's own (normal stress), else the
+    /// project's.
+    pub(super) curve_variant: Option<String>,
+    /// Where the variant comes from: `catalogue entry` or `project basis`.
+    pub(super) curve_from: &'static str,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -46,6 +51,7 @@ impl Findings {
 /// correction and mean-stress case.
 pub(super) fn component_setups<'a>(
     fam: &'a Family,
+    basis: &ResolvedBasis,
     det: &Detail,
     entry: Option<&CatalogueEntry>,
     hist: &'a DetailHistory,
@@ -90,6 +96,16 @@ pub(super) fn component_setups<'a>(
             (None, None) => (f64::NAN, "missing"),
         };
         let size = size_correction(fam, det, entry, comp);
+        // A catalogue entry's own curve replaces the project's normal-stress curve
+        // (joint-classes/README.md, `curve_variant`).
+        let entry_variant = match comp {
+            Component::Normal => entry.and_then(|e| e.curve_variant.clone()),
+            Component::Shear => None,
+        };
+        let (curve_variant, curve_from) = match entry_variant {
+            Some(v) => (Some(v), "catalogue entry"),
+            None => (basis.variant.clone(), "project basis"),
+        };
         if comp == Component::Normal
             && entry.is_none()
             && size.exponent.is_none()
@@ -113,6 +129,8 @@ pub(super) fn component_setups<'a>(
             case,
             history: h,
             amplitude: ci.amplitude,
+            curve_variant,
+            curve_from,
         });
     }
     setups
@@ -130,7 +148,7 @@ struct Curves {
 
 fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
     let segs = fam
-        .segments(s.comp, basis.variant.as_deref())
+        .segments(s.comp, s.curve_variant.as_deref())
         .unwrap_or(&fam.curves.get(s.comp).segments);
     let def = fam.curves.get(s.comp);
     let corrected = s.size.factor * s.category;
@@ -487,6 +505,16 @@ pub(super) fn assess_component(
         design_category_mpa: cv.design_ref,
         characteristic_curve: cv.characteristic.to_result(),
         design_curve: cv.design.to_result(),
+        curve_variant: s
+            .curve_variant
+            .as_ref()
+            .filter(|v| fam.curves.get(s.comp).variants.contains_key(*v))
+            .map(|v| CurveVariantUsed {
+                name: v.clone(),
+                description: fam.curves.get(s.comp).variants[v].name.clone(),
+                from: s.curve_from.into(),
+                source: fam.curves.get(s.comp).variants[v].source.clone(),
+            }),
         constant_amplitude_limit_mpa: ca_limit,
         amplitude: amplitude.as_str().into(),
         amplitude_basis,

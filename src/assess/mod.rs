@@ -129,6 +129,7 @@ fn catalogue_used(fam: &Family, mut used_keys: Vec<&str>) -> Vec<CatalogueEntryU
             shear_category: e.shear_category,
             thickness_exponent: e.thickness_exponent,
             mean_stress_case: e.mean_stress_case.clone(),
+            curve_variant: e.curve_variant.clone(),
         })
         .collect()
 }
@@ -166,7 +167,7 @@ fn assess_detail(
         .map(|m| m.fy_mpa)
         .unwrap_or(f64::NAN);
     let mut found = Findings::default();
-    let setups = component_setups(fam, det, entry, hist, &mut found);
+    let setups = component_setups(fam, basis, det, entry, hist, &mut found);
     let mut comps = Vec::with_capacity(setups.len());
     let mut parts = Vec::with_capacity(setups.len());
     let mut outside = false;

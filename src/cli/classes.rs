@@ -68,7 +68,15 @@ fn family_listing(f: &Family, out: &mut String) {
                 .join(", ")
         ));
         for (name, v) in &def.variants {
-            out.push_str(&format!("  curve variant `{name}`: {}\n", v.name));
+            out.push_str(&format!(
+                "  curve variant `{name}`: {}{}\n",
+                v.name,
+                if v.entry_only {
+                    " (for catalogue entries that name it)"
+                } else {
+                    ""
+                }
+            ));
         }
     }
     out.push_str("\nmean-stress cases:\n");
@@ -90,13 +98,17 @@ fn family_listing(f: &Family, out: &mut String) {
     for e in &f.catalogue {
         let o = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_else(|| "-".into());
         out.push_str(&format!(
-            "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]\n",
+            "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]{}\n",
             e.key,
             o(e.normal_category),
             o(e.shear_category),
             o(e.thickness_exponent),
             e.description,
-            e.reference
+            e.reference,
+            e.curve_variant
+                .as_ref()
+                .map(|v| format!(" (own curve `{v}`)"))
+                .unwrap_or_default()
         ));
     }
 }
