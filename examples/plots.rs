@@ -173,5 +173,6 @@ fn made_up_record() -> CountedRecord {
         mean_bin_width_mpa: 10.0,
         histogram,
         matrix,
+        per_cycle: false,
     }
 }

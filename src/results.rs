@@ -17,6 +17,8 @@ pub struct Results {
     pub family: FamilyInfo,
     pub basis: BasisUsed,
     pub summary: Summary,
+    /// Set when the details are one part of a project (`assess --shard K/N`).
+    pub shard: Option<ShardInfo>,
     pub details: Vec<DetailResult>,
     /// Catalogue entries referred to by the details, for the appendix.
     pub catalogue_used: Vec<CatalogueEntryUsed>,
@@ -39,6 +41,22 @@ pub struct InputInfo {
     pub text: String,
     /// Series files read, with their hashes.
     pub series_files: Vec<SeriesFileInfo>,
+    /// Table files read (details, stresses, histories), with their hashes.
+    pub table_files: Vec<SeriesFileInfo>,
+    /// Input-level warnings (e.g. table details without stress rows, left out).
+    pub warnings: Vec<Warning>,
+}
+
+/// Which part of a project's details a results model holds.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct ShardInfo {
+    /// 1-based part number.
+    pub part: usize,
+    pub parts: usize,
+    /// Index of the part's first detail in the whole project.
+    pub first_detail: usize,
+    /// Details in the whole project.
+    pub total_details: usize,
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
@@ -419,6 +437,9 @@ pub struct CountedRecord {
     pub mean_bin_width_mpa: f64,
     pub histogram: Vec<HistogramBin>,
     pub matrix: Vec<MatrixCell>,
+    /// True when every counted cycle entered the damage sum at its own range and mean;
+    /// false when each range-mean cell entered at its largest range.
+    pub per_cycle: bool,
 }
 
 /// Histogram bins and matrix cells are the counting stage's own serialisable types.

@@ -294,6 +294,7 @@ fn record(histogram: Vec<HistogramBin>, matrix: Vec<MatrixCell>) -> CountedRecor
         mean_bin_width_mpa: 10.0,
         histogram,
         matrix,
+        per_cycle: false,
     }
 }
 

@@ -23,103 +23,208 @@ pub use corrections::{enhancement, mean_stress_factor};
 pub use curve::SnCurve;
 use verify::{verify_detail, InteractionCheck};
 
-/// Assess every detail of a project. `family` must be the project's family.
+/// Assess every detail of a project. `family` must be the project's family. Details
+/// are assessed in parallel; the results are in input order and equal to a serial run.
 pub fn assess(project: &Project, fam: &Family, histories: &ProjectHistories) -> Results {
-    let file = &project.file;
-    let basis = resolve_basis(file, fam);
-    let interaction = basis.interaction.as_ref().map(|i| InteractionCheck {
-        normal_exponent: i.normal_exponent,
-        shear_exponent: i.shear_exponent,
-        limit: i.limit,
-        source: i.source.clone(),
-    });
-    let mut details = Vec::with_capacity(file.details.len());
-    let mut used_keys: Vec<&str> = Vec::new();
-    for (det, hist) in file.details.iter().zip(&histories.details) {
-        if let Some(k) = &det.detail {
-            if !used_keys.contains(&k.as_str()) {
-                used_keys.push(k);
-            }
-        }
-        details.push(assess_detail(
-            file,
+    let engine = Engine::new(project, fam, histories);
+    let details = engine.assess_range(0..project.file.details.len());
+    engine.results(details)
+}
+
+/// The assessment of one project, detail by detail: what is common to all details is
+/// resolved once.
+pub struct Engine<'a> {
+    project: &'a Project,
+    fam: &'a Family,
+    histories: &'a ProjectHistories,
+    basis: ResolvedBasis,
+    interaction: Option<InteractionCheck>,
+}
+
+impl<'a> Engine<'a> {
+    pub fn new(project: &'a Project, fam: &'a Family, histories: &'a ProjectHistories) -> Self {
+        let basis = resolve_basis(&project.file, fam);
+        let interaction = basis.interaction.as_ref().map(|i| InteractionCheck {
+            normal_exponent: i.normal_exponent,
+            shear_exponent: i.shear_exponent,
+            limit: i.limit,
+            source: i.source.clone(),
+        });
+        Engine {
+            project,
             fam,
-            &basis,
-            interaction.as_ref(),
-            det,
-            hist,
-        ));
+            histories,
+            basis,
+            interaction,
+        }
     }
-    let catalogue_used = catalogue_used(fam, used_keys);
-    let summary = summary(&details);
-    let p = &file.project;
-    Results {
-        model_version: MODEL_VERSION,
-        tool: ToolInfo {
-            name: "seamlife".into(),
-            version: env!("CARGO_PKG_VERSION").into(),
-        },
-        input: InputInfo {
-            file_name: project
-                .path
-                .file_name()
-                .map(|f| f.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            sha256: project.sha256.clone(),
-            bytes: project.text.len() as u64,
-            text: project.text.clone(),
-            series_files: histories.series_files.clone(),
-        },
-        project: ProjectEcho {
-            title: p.title.clone(),
-            reference: p.reference.clone(),
-            revision: p.revision.clone(),
-            prepared_by: p.prepared_by.clone(),
-            checked_by: p.checked_by.clone(),
-            date: p.date.clone(),
-            client: p.client.clone(),
-            structure: p.structure.clone(),
-            specification: p.specification.clone(),
-            revisions: p
-                .revisions
-                .iter()
-                .map(|r| RevisionEcho {
-                    revision: r.revision.clone(),
-                    date: r.date.clone(),
-                    description: r.description.clone(),
-                    by: r.by.clone(),
-                })
-                .collect(),
-        },
-        family: FamilyInfo {
-            id: fam.id.clone(),
-            title: fam.title.clone(),
-            edition: fam.edition.clone(),
-            data_version: fam.data_version.clone(),
-            transcription_note: fam.transcription_note.clone(),
-            origin: if fam.origin.starts_with("<embedded>") {
-                "embedded".into()
-            } else {
-                std::path::Path::new(&fam.origin)
+
+    /// Number of details in the project.
+    pub fn len(&self) -> usize {
+        self.project.file.details.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// Assess detail `i` (its spectrum is made here and dropped after).
+    pub fn assess_one(&self, i: usize) -> DetailResult {
+        let hist = self.histories.detail(self.project, i);
+        assess_detail(
+            &self.project.file,
+            self.fam,
+            &self.basis,
+            self.interaction.as_ref(),
+            &self.project.file.details[i],
+            &hist,
+        )
+    }
+
+    /// Assess a range of details in parallel, in input order.
+    pub fn assess_range(&self, range: std::ops::Range<usize>) -> Vec<DetailResult> {
+        use rayon::prelude::*;
+        range.into_par_iter().map(|i| self.assess_one(i)).collect()
+    }
+
+    /// The results model for the given details (a whole project, or a part of it).
+    pub fn results(&self, details: Vec<DetailResult>) -> Results {
+        let mut r = self.frame();
+        let mut sum = SummaryBuilder::default();
+        for d in &details {
+            sum.add(d);
+        }
+        r.summary = sum.finish();
+        r.catalogue_used = catalogue_used(
+            self.fam,
+            details.iter().filter_map(|d| d.detail_key.as_deref()),
+        );
+        r.details = details;
+        r
+    }
+
+    /// The results model without details: project, family, basis, inputs and cautions.
+    pub fn frame(&self) -> Results {
+        let project = self.project;
+        let fam = self.fam;
+        let file = &project.file;
+        let p = &file.project;
+        Results {
+            model_version: MODEL_VERSION,
+            tool: ToolInfo {
+                name: "seamlife".into(),
+                version: env!("CARGO_PKG_VERSION").into(),
+            },
+            input: InputInfo {
+                file_name: project
+                    .path
                     .file_name()
                     .map(|f| f.to_string_lossy().into_owned())
-                    .unwrap_or_default()
+                    .unwrap_or_default(),
+                sha256: project.sha256.clone(),
+                bytes: project.text.len() as u64,
+                text: project.text.clone(),
+                series_files: self.histories.series_files.clone(),
+                table_files: project.tables.files.clone(),
+                warnings: project.warnings.clone(),
             },
-            reference_cycles: fam.reference_cycles,
-        },
-        basis: basis_used(file, fam, &basis),
-        summary,
-        details,
-        catalogue_used,
-        cautions: cautions(&fam.edition),
+            project: ProjectEcho {
+                title: p.title.clone(),
+                reference: p.reference.clone(),
+                revision: p.revision.clone(),
+                prepared_by: p.prepared_by.clone(),
+                checked_by: p.checked_by.clone(),
+                date: p.date.clone(),
+                client: p.client.clone(),
+                structure: p.structure.clone(),
+                specification: p.specification.clone(),
+                revisions: p
+                    .revisions
+                    .iter()
+                    .map(|r| RevisionEcho {
+                        revision: r.revision.clone(),
+                        date: r.date.clone(),
+                        description: r.description.clone(),
+                        by: r.by.clone(),
+                    })
+                    .collect(),
+            },
+            family: FamilyInfo {
+                id: fam.id.clone(),
+                title: fam.title.clone(),
+                edition: fam.edition.clone(),
+                data_version: fam.data_version.clone(),
+                transcription_note: fam.transcription_note.clone(),
+                origin: if fam.origin.starts_with("<embedded>") {
+                    "embedded".into()
+                } else {
+                    std::path::Path::new(&fam.origin)
+                        .file_name()
+                        .map(|f| f.to_string_lossy().into_owned())
+                        .unwrap_or_default()
+                },
+                reference_cycles: fam.reference_cycles,
+            },
+            basis: basis_used(file, fam, &self.basis),
+            summary: SummaryBuilder::default().finish(),
+            shard: None,
+            details: Vec::new(),
+            catalogue_used: Vec::new(),
+            cautions: cautions(&fam.edition),
+        }
+    }
+}
+
+/// The summary counts, gathered detail by detail (for results streamed in parts).
+#[derive(Debug, Clone, Default)]
+pub struct SummaryBuilder {
+    details: usize,
+    passed: usize,
+    failed: usize,
+    outside: usize,
+    warnings: usize,
+    governing: Option<(f64, String)>,
+}
+
+impl SummaryBuilder {
+    pub fn add(&mut self, d: &DetailResult) {
+        self.details += 1;
+        match d.status {
+            Status::Pass => self.passed += 1,
+            Status::Fail => self.failed += 1,
+            Status::OutsideMethod => self.outside += 1,
+        }
+        self.warnings += d.warnings.len();
+        // the first detail of the highest utilisation governs
+        if self
+            .governing
+            .as_ref()
+            .is_none_or(|(u, _)| d.utilisation.total_cmp(u).is_gt())
+        {
+            self.governing = Some((d.utilisation, d.id.clone()));
+        }
+    }
+
+    pub fn finish(&self) -> Summary {
+        Summary {
+            details: self.details,
+            passed: self.passed,
+            failed: self.failed,
+            outside_method: self.outside,
+            governing_detail: self.governing.as_ref().map(|g| g.1.clone()),
+            max_utilisation: self.governing.as_ref().map(|g| g.0).unwrap_or(0.0),
+            warnings: self.warnings,
+        }
     }
 }
 
 /// The catalogue entries the details refer to, sorted by key, for the appendix.
-fn catalogue_used(fam: &Family, mut used_keys: Vec<&str>) -> Vec<CatalogueEntryUsed> {
-    used_keys.sort();
-    used_keys
-        .iter()
+pub fn catalogue_used<'k>(
+    fam: &Family,
+    keys: impl Iterator<Item = &'k str>,
+) -> Vec<CatalogueEntryUsed> {
+    let used: std::collections::BTreeSet<&str> = keys.collect();
+    used.iter()
         .filter_map(|k| fam.entry(k))
         .map(|e| CatalogueEntryUsed {
             key: e.key.clone(),
@@ -132,24 +237,6 @@ fn catalogue_used(fam: &Family, mut used_keys: Vec<&str>) -> Vec<CatalogueEntryU
             curve_variant: e.curve_variant.clone(),
         })
         .collect()
-}
-
-fn summary(details: &[DetailResult]) -> Summary {
-    let governing = details
-        .iter()
-        .max_by(|a: &&DetailResult, b: &&DetailResult| a.utilisation.total_cmp(&b.utilisation));
-    Summary {
-        details: details.len(),
-        passed: details.iter().filter(|d| d.status == Status::Pass).count(),
-        failed: details.iter().filter(|d| d.status == Status::Fail).count(),
-        outside_method: details
-            .iter()
-            .filter(|d| d.status == Status::OutsideMethod)
-            .count(),
-        governing_detail: governing.map(|d| d.id.clone()),
-        max_utilisation: governing.map(|d| d.utilisation).unwrap_or(0.0),
-        warnings: details.iter().map(|d| d.warnings.len()).sum(),
-    }
 }
 
 fn assess_detail(

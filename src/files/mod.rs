@@ -2,6 +2,7 @@
 //! suggestions, and turning YAML parse errors into located input errors. Used by the
 //! project stage (`input`) and the curve-family stage (`catalogue`) alike.
 
+pub mod csvlines;
 pub mod locate;
 pub mod yaml;
 

@@ -6,12 +6,13 @@ pub mod rainflow;
 pub mod series;
 pub mod spectrum;
 
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
 
+use crate::catalogue::Component;
 use crate::error::{Error, InputError, InputErrorKind, Location};
 use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
-use crate::histories::spectrum::{BinRule, SpectrumSpec};
+use crate::histories::spectrum::{BinRule, Spectrum, SpectrumSpec};
 use crate::input::{
     ColumnSelector, ComponentInput, LoadEvent, Project, ResidueInput, SeriesInput, SeriesUnitInput,
     YamlPath,
@@ -52,11 +53,99 @@ pub struct DetailHistory {
     pub shear: Option<ComponentHistory>,
 }
 
-/// All spectra of a project, and the series files that were read.
+/// The spectra of a project: series files are counted once, up front (they are read
+/// from disk and may fail); each detail's spectrum is then made on demand by
+/// [`ProjectHistories::detail`], so that a project of many details never holds every
+/// spectrum at once.
 #[derive(Debug, Clone, Default)]
 pub struct ProjectHistories {
-    pub details: Vec<DetailHistory>,
+    /// Counted series by (detail index, component, loading index).
+    records: HashMap<(usize, Component, usize), CountedRecord>,
     pub series_files: Vec<SeriesFileInfo>,
+}
+
+impl ProjectHistories {
+    /// The spectrum of detail `i` of the project (blocks given, table histories counted
+    /// now, series counted at build time).
+    pub fn detail(&self, project: &Project, i: usize) -> DetailHistory {
+        let d = &project.file.details[i];
+        let comp = |c: Component, input: &Option<ComponentInput>| {
+            input.as_ref().map(|ci| self.component(project, i, c, ci))
+        };
+        DetailHistory {
+            normal: comp(Component::Normal, &d.normal),
+            shear: comp(Component::Shear, &d.shear),
+        }
+    }
+
+    fn component(
+        &self,
+        project: &Project,
+        i: usize,
+        comp: Component,
+        c: &ComponentInput,
+    ) -> ComponentHistory {
+        let mut h = ComponentHistory::default();
+        for (k, ev) in c.loading.iter().enumerate() {
+            if let Some(blocks) = &ev.blocks {
+                given_blocks(ev, blocks, &mut h.blocks);
+            }
+            if let Some(t) = ev.table_history {
+                let (blocks, rec) = table_history(project, ev, t);
+                h.blocks.extend(blocks);
+                h.counted.push(rec);
+            }
+            if let Some(rec) = self.records.get(&(i, comp, k)) {
+                cell_blocks(ev, rec, &mut h.blocks);
+                h.counted.push(rec.clone());
+            }
+        }
+        h
+    }
+}
+
+/// Blocks given in the project file or the stresses table, per year.
+fn given_blocks(ev: &LoadEvent, blocks: &[crate::input::Block], out: &mut Vec<SpectrumBlock>) {
+    let per_year = ev.per_year.unwrap_or(1.0);
+    for b in blocks {
+        let (range, hi, lo) = match (b.range_mpa, b.mean_mpa, b.max_mpa, b.min_mpa) {
+            // σmax = σm + Δσ/2, σmin = σm − Δσ/2 (common practice)
+            (Some(r), Some(m), _, _) => (r, Some(m + 0.5 * r), Some(m - 0.5 * r)),
+            (Some(r), None, _, _) => (r, None, None),
+            // Δσ = σmax − σmin (common practice)
+            (None, _, Some(hi), Some(lo)) => (hi - lo, Some(hi), Some(lo)),
+            // refused by the input checks
+            _ => continue,
+        };
+        out.push(SpectrumBlock {
+            event: ev.event.clone(),
+            origin: "given",
+            range_mpa: range,
+            max_mpa: hi,
+            min_mpa: lo,
+            cycles_per_year: b.cycles * per_year,
+        });
+    }
+}
+
+/// The cells of a counted series' range-mean matrix as blocks.
+fn cell_blocks(ev: &LoadEvent, rec: &CountedRecord, out: &mut Vec<SpectrumBlock>) {
+    for cell in &rec.matrix {
+        // Each cell is one block: its largest range and weighted mean, so every
+        // counted cycle is represented at or above its own range.
+        let r = cell.max_range_mpa;
+        if r <= 0.0 {
+            continue;
+        }
+        out.push(SpectrumBlock {
+            event: ev.event.clone(),
+            origin: "counted",
+            range_mpa: r,
+            max_mpa: Some(cell.mean_mpa + 0.5 * r),
+            min_mpa: Some(cell.mean_mpa - 0.5 * r),
+            cycles_per_year: cell.cycles * rec.repeats_per_year,
+        });
+    }
 }
 
 /// Default largest number of range bins for a counted series.
@@ -64,93 +153,110 @@ pub const DEFAULT_SERIES_BINS: u32 = 64;
 /// Default largest number of mean bins of the range-mean matrix.
 pub const DEFAULT_MEAN_BINS: u32 = 16;
 
-/// Build the spectra of every detail. Series files are counted once each, however
-/// many details refer to the same file, column and counting options.
+/// Count the series files of a project, once each however many details refer to the
+/// same file, column and counting options.
 pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
     let mut cache: BTreeMap<String, CountedRecord> = BTreeMap::new();
     let mut files: BTreeMap<String, SeriesFileInfo> = BTreeMap::new();
     let mut out = ProjectHistories::default();
     for (i, d) in project.file.details.iter().enumerate() {
         let base = YamlPath::root().key("details").index(i);
-        let normal = match &d.normal {
-            Some(c) => Some(component(
-                project,
-                c,
-                &base.key("normal"),
-                &mut cache,
-                &mut files,
-            )?),
-            None => None,
-        };
-        let shear = match &d.shear {
-            Some(c) => Some(component(
-                project,
-                c,
-                &base.key("shear"),
-                &mut cache,
-                &mut files,
-            )?),
-            None => None,
-        };
-        out.details.push(DetailHistory { normal, shear });
+        for (comp, input) in [(Component::Normal, &d.normal), (Component::Shear, &d.shear)] {
+            let Some(c) = input else { continue };
+            for (k, ev) in c.loading.iter().enumerate() {
+                let Some(s) = &ev.series else { continue };
+                let sp = base
+                    .key(comp.as_str())
+                    .key("loading")
+                    .index(k)
+                    .key("series");
+                let rec = counted(project, ev, s, &sp, &mut cache, &mut files)?;
+                out.records.insert((i, comp, k), rec);
+            }
+        }
     }
     out.series_files = files.into_values().collect();
     Ok(out)
 }
 
-fn component(
+/// Count a history of the histories table: every cycle is its own block (its range and
+/// mean, so damage and the mean-stress rule act on each cycle exactly), times the
+/// event's occurrences per year.
+fn table_history(
     project: &Project,
-    c: &ComponentInput,
-    path: &YamlPath,
-    cache: &mut BTreeMap<String, CountedRecord>,
-    files: &mut BTreeMap<String, SeriesFileInfo>,
-) -> Result<ComponentHistory, Error> {
-    let mut h = ComponentHistory::default();
-    for (k, ev) in c.loading.iter().enumerate() {
-        if let Some(blocks) = &ev.blocks {
-            let per_year = ev.per_year.unwrap_or(1.0);
-            for b in blocks {
-                let (range, hi, lo) = match (b.range_mpa, b.mean_mpa, b.max_mpa, b.min_mpa) {
-                    // σmax = σm + Δσ/2, σmin = σm − Δσ/2 (common practice)
-                    (Some(r), Some(m), _, _) => (r, Some(m + 0.5 * r), Some(m - 0.5 * r)),
-                    (Some(r), None, _, _) => (r, None, None),
-                    // Δσ = σmax − σmin (common practice)
-                    (None, _, Some(hi), Some(lo)) => (hi - lo, Some(hi), Some(lo)),
-                    _ => return Err(Error::Internal("block form was not checked".into())),
-                };
-                h.blocks.push(SpectrumBlock {
-                    event: ev.event.clone(),
-                    origin: "given",
-                    range_mpa: range,
-                    max_mpa: hi,
-                    min_mpa: lo,
-                    cycles_per_year: b.cycles * per_year,
-                });
-            }
-        }
-        if let Some(s) = &ev.series {
-            let sp = path.key("loading").index(k).key("series");
-            let rec = counted(project, ev, s, &sp, cache, files)?;
-            for cell in &rec.matrix {
-                // Each cell is one block: its largest range and weighted mean, so every
-                // counted cycle is represented at or above its own range.
-                let r = cell.max_range_mpa;
-                if r <= 0.0 {
-                    continue;
-                }
-                h.blocks.push(SpectrumBlock {
-                    event: ev.event.clone(),
-                    origin: "counted",
-                    range_mpa: r,
-                    max_mpa: Some(cell.mean_mpa + 0.5 * r),
-                    min_mpa: Some(cell.mean_mpa - 0.5 * r),
-                    cycles_per_year: cell.cycles * rec.repeats_per_year,
-                });
-            }
-            h.counted.push(rec);
+    ev: &LoadEvent,
+    index: usize,
+) -> (Vec<SpectrumBlock>, CountedRecord) {
+    use crate::histories::rainflow::{count_slice, ResidueMode};
+    let h = &project.tables.histories[index];
+    let opts = project.file.tables.as_ref();
+    let mode = match opts.and_then(|t| t.histories_residue) {
+        Some(ResidueInput::Repeated) => ResidueMode::Repeated,
+        // one occurrence counted on its own: the residue as half cycles (ASTM E1049-85)
+        _ => ResidueMode::HalfCycles,
+    };
+    let gate = opts.and_then(|t| t.histories_gate_mpa).unwrap_or(0.0);
+    let per_year = ev.per_year.unwrap_or(1.0);
+    let mut cycles = Vec::new();
+    let stats = count_slice(&h.samples, gate, mode, &mut |c| cycles.push(c));
+    let mut spec = Spectrum::new(SpectrumSpec {
+        range: BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
+        mean: BinRule::MaxBins(DEFAULT_MEAN_BINS as usize),
+    })
+    .expect("default bin rules are valid");
+    let mut blocks = Vec::with_capacity(cycles.len());
+    for c in &cycles {
+        spec.add(c);
+        if c.range > 0.0 {
+            blocks.push(SpectrumBlock {
+                event: ev.event.clone(),
+                origin: "counted",
+                range_mpa: c.range,
+                max_mpa: Some(c.max),
+                min_mpa: Some(c.min),
+                cycles_per_year: c.count * per_year,
+            });
         }
     }
-    Ok(h)
+    let n = h.samples.len() as f64;
+    // mean and standard deviation of the samples (common practice)
+    let mean = h.samples.iter().sum::<f64>() / n.max(1.0);
+    let var = h.samples.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n.max(1.0);
+    let table = project
+        .file
+        .tables
+        .as_ref()
+        .and_then(|t| t.histories.clone())
+        .unwrap_or_default();
+    let rec = CountedRecord {
+        event: ev.event.clone(),
+        file: table,
+        column: "stress_mpa".into(),
+        unit: "MPa".into(),
+        scale: 1.0,
+        modulus_mpa: None,
+        samples: stats.samples,
+        reversals: stats.reversals,
+        full_cycles: stats.full_cycles,
+        half_cycles: stats.half_cycles,
+        min_mpa: stats.min,
+        max_mpa: stats.max,
+        mean_mpa: mean,
+        std_dev_mpa: var.sqrt(),
+        constant: stats.reversals < 2,
+        gate_mpa: gate,
+        residue: match mode {
+            ResidueMode::Repeated => "repeated".into(),
+            ResidueMode::HalfCycles => "half-cycles".into(),
+        },
+        repeats_per_year: per_year,
+        bin_width_mpa: spec.range_width_mpa(),
+        mean_bin_width_mpa: spec.mean_width_mpa(),
+        histogram: spec.histogram(),
+        matrix: spec.matrix(),
+        per_cycle: true,
+    };
+    (blocks, rec)
 }
 
 /// Resolve a series path against the project folder, refusing one that leaves it
@@ -347,6 +453,7 @@ pub fn counted_record(
         mean_bin_width_mpa: cs.mean_width_mpa,
         histogram: cs.histogram,
         matrix: cs.matrix,
+        per_cycle: false,
     }
 }
 

@@ -135,6 +135,7 @@ pub(super) fn check(file: &ProjectFile, library: &Library) -> Vec<Problem> {
     check_header(&mut c, file);
     check_basis(&mut c, file, library, family);
     check_materials(&mut c, file);
+    check_events_and_tables(&mut c, file);
     check_details(&mut c, file, family);
     c.problems
 }
@@ -259,6 +260,46 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
     }
 }
 
+/// Declared events (named once, positive occurrences) and the table options.
+fn check_events_and_tables(c: &mut Checker, file: &ProjectFile) {
+    let ep = YamlPath::root().key("events");
+    for (i, e) in file.events.iter().enumerate() {
+        if e.name.trim().is_empty() {
+            c.push(
+                ep.index(i).key("name"),
+                InputErrorKind::MissingField,
+                "event name is empty".into(),
+                Some("give each event a short name that the table rows use".into()),
+            );
+        }
+        c.positive(ep.index(i).key("per_year"), "per_year", e.per_year);
+    }
+    if let Some(t) = &file.tables {
+        let tp = YamlPath::root().key("tables");
+        if let Some(g) = t.histories_gate_mpa {
+            if !(g.is_finite() && g >= 0.0) {
+                c.push(
+                    tp.key("histories_gate_mpa"),
+                    InputErrorKind::InvalidValue,
+                    format!("histories_gate_mpa must be zero or positive, got {g}"),
+                    None,
+                );
+            }
+        }
+        if t.details.is_none() && t.stresses.is_none() && t.histories.is_none() {
+            c.push(
+                tp,
+                InputErrorKind::MissingField,
+                "`tables:` names no table".into(),
+                Some(
+                    "give `details:` and `stresses:` (and optionally `histories:`) file paths"
+                        .into(),
+                ),
+            );
+        }
+    }
+}
+
 fn check_materials(c: &mut Checker, file: &ProjectFile) {
     let root = YamlPath::root();
     for (name, m) in &file.materials {
@@ -279,7 +320,12 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
             d.clone(),
             InputErrorKind::MissingField,
             "the project lists no details".into(),
-            Some("add at least one entry under `details:`".into()),
+            Some(if file.tables.is_some() {
+                "the tables hold no detail with stresses; add rows, or entries under `details:`"
+                    .into()
+            } else {
+                "add at least one entry under `details:`, or a details table under `tables:`".into()
+            }),
         );
     }
     let mut first_seen: BTreeMap<&str, usize> = BTreeMap::new();
@@ -480,14 +526,18 @@ fn check_component(
     }
     for (k, ev) in ci.loading.iter().enumerate() {
         let ep = cp.key("loading").index(k);
-        match (&ev.blocks, &ev.series) {
-            (Some(_), Some(_)) | (None, None) => c.push(
+        let sources = [
+            ev.blocks.is_some(),
+            ev.series.is_some(),
+            ev.table_history.is_some(),
+        ];
+        if sources.iter().filter(|&&x| x).count() != 1 {
+            c.push(
                 ep.clone(),
                 InputErrorKind::MissingField,
                 "an event needs exactly one of `blocks:` or `series:`".into(),
                 Some("split block loading and a measured series into two events".into()),
-            ),
-            _ => {}
+            );
         }
         match ev.per_year {
             Some(py) => c.positive(ep.key("per_year"), "per_year", py),

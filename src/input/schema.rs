@@ -17,7 +17,51 @@ pub struct ProjectFile {
     pub basis: Basis,
     #[serde(default)]
     pub materials: BTreeMap<String, Material>,
+    /// Load events that table rows refer to by name.
+    #[serde(default)]
+    pub events: Vec<EventDecl>,
+    /// Details and their stresses from CSV tables.
+    #[serde(default)]
+    pub tables: Option<Tables>,
+    #[serde(default)]
     pub details: Vec<Detail>,
+}
+
+/// A load event declared once for the table rows that name it.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct EventDecl {
+    pub name: String,
+    /// Occurrences of the event per year.
+    pub per_year: f64,
+    #[serde(default)]
+    pub description: Option<String>,
+}
+
+/// CSV tables of details, stress blocks and stress histories (paths relative to the
+/// project file).
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Tables {
+    /// One row per detail.
+    #[serde(default)]
+    pub details: Option<String>,
+    /// Stress blocks per detail, component and event occurrence.
+    #[serde(default)]
+    pub stresses: Option<String>,
+    /// Stress histories per detail, component and event occurrence, in time order.
+    #[serde(default)]
+    pub histories: Option<String>,
+    /// How the residue of a counted history is closed (default: half cycles, one
+    /// occurrence of the event being counted on its own).
+    #[serde(default)]
+    pub histories_residue: Option<ResidueInput>,
+    /// Hysteresis gate for the histories, MPa.
+    #[serde(default)]
+    pub histories_gate_mpa: Option<f64>,
+    /// Allow table files outside the project folder.
+    #[serde(default)]
+    pub allow_outside_project: bool,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -146,6 +190,9 @@ pub struct Detail {
     /// Exponent of the size correction when set by hand (overrides the catalogue).
     #[serde(default)]
     pub thickness_exponent: Option<f64>,
+    /// A group name for summaries and figures (a girder, a bay, a member type).
+    #[serde(default)]
+    pub group: Option<String>,
     #[serde(default)]
     pub normal: Option<ComponentInput>,
     #[serde(default)]
@@ -195,6 +242,10 @@ pub struct LoadEvent {
     /// A measured or simulated stress history to be counted.
     #[serde(default)]
     pub series: Option<SeriesInput>,
+    /// A history from the histories table (index into the project's table histories);
+    /// never read from or written to the project file.
+    #[serde(skip)]
+    pub table_history: Option<usize>,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
