@@ -38,24 +38,24 @@ impl Checker {
         });
     }
 
-    fn positive(&mut self, path: YamlPath, what: &str, v: f64) {
+    fn positive(&mut self, path: impl FnOnce() -> YamlPath, what: &str, v: f64) {
         if v.is_nan() {
             self.push(
-                path,
+                path(),
                 InputErrorKind::InvalidValue,
                 format!("{what} is not a number (NaN)"),
                 Some("give a finite positive number".into()),
             );
         } else if !v.is_finite() {
             self.push(
-                path,
+                path(),
                 InputErrorKind::InvalidValue,
                 format!("{what} is infinite"),
                 Some("give a finite positive number".into()),
             );
         } else if v <= 0.0 {
             self.push(
-                path,
+                path(),
                 InputErrorKind::InvalidValue,
                 format!("{what} must be greater than zero, got {v}"),
                 Some(if what.contains("range") {
@@ -67,10 +67,10 @@ impl Checker {
         }
     }
 
-    fn finite(&mut self, path: YamlPath, what: &str, v: f64) {
+    fn finite(&mut self, path: impl FnOnce() -> YamlPath, what: &str, v: f64) {
         if !v.is_finite() {
             self.push(
-                path,
+                path(),
                 InputErrorKind::InvalidValue,
                 format!("{what} must be a finite number, got {v}"),
                 Some("give a finite number in MPa".into()),
@@ -78,7 +78,13 @@ impl Checker {
         }
     }
 
-    fn option_name(&mut self, path: YamlPath, what: &str, name: &str, options: Vec<String>) {
+    fn option_name(
+        &mut self,
+        path: impl FnOnce() -> YamlPath,
+        what: &str,
+        name: &str,
+        options: Vec<String>,
+    ) {
         if !options.iter().any(|o| o == name) {
             let hint = match suggest(name, options.iter().map(|s| s.as_str())) {
                 Some(n) => format!("did you mean `{n}`?"),
@@ -86,7 +92,7 @@ impl Checker {
                 None => format!("this family defines: {}", options.join(", ")),
             };
             self.push(
-                path,
+                path(),
                 InputErrorKind::UnknownOption,
                 format!("unknown {what} `{name}`"),
                 Some(hint),
@@ -208,7 +214,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
         );
     }
     c.positive(
-        b.key("design_life_years"),
+        || b.key("design_life_years"),
         "design_life_years",
         file.basis.design_life_years,
     );
@@ -218,7 +224,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
         ("damage_limit", &file.basis.damage_limit),
     ] {
         if let Some(o) = ov {
-            c.positive(b.key(key).key("value"), key, o.value);
+            c.positive(|| b.key(key).key("value"), key, o.value);
             if o.reason.trim().is_empty() {
                 c.push(
                     b.key(key).key("reason"),
@@ -234,7 +240,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
     if let Some(fam) = family {
         if let Some(case) = &file.basis.damage_case {
             c.option_name(
-                b.key("damage_case"),
+                || b.key("damage_case"),
                 "damage case",
                 case,
                 fam.damage_limit.cases.keys().cloned().collect(),
@@ -242,7 +248,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
         }
         if let Some(v) = &file.basis.curve_variant {
             c.option_name(
-                b.key("curve_variant"),
+                || b.key("curve_variant"),
                 "curve variant",
                 v,
                 fam.variant_names(),
@@ -255,7 +261,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
                 .as_ref()
                 .map(|i| i.cases.keys().cloned().collect())
                 .unwrap_or_default();
-            c.option_name(b.key("interaction_case"), "interaction case", ic, opts);
+            c.option_name(|| b.key("interaction_case"), "interaction case", ic, opts);
         }
     }
 }
@@ -272,7 +278,7 @@ fn check_events_and_tables(c: &mut Checker, file: &ProjectFile) {
                 Some("give each event a short name that the table rows use".into()),
             );
         }
-        c.positive(ep.index(i).key("per_year"), "per_year", e.per_year);
+        c.positive(|| ep.index(i).key("per_year"), "per_year", e.per_year);
     }
     if let Some(t) = &file.tables {
         let tp = YamlPath::root().key("tables");
@@ -304,7 +310,7 @@ fn check_materials(c: &mut Checker, file: &ProjectFile) {
     let root = YamlPath::root();
     for (name, m) in &file.materials {
         c.positive(
-            root.key("materials").key(name).key("fy_mpa"),
+            || root.key("materials").key(name).key("fy_mpa"),
             "fy_mpa",
             m.fy_mpa,
         );
@@ -373,9 +379,9 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 Some(hint),
             );
         }
-        c.positive(p.key("thickness_mm"), "thickness_mm", det.thickness_mm);
+        c.positive(|| p.key("thickness_mm"), "thickness_mm", det.thickness_mm);
         if let Some(l) = det.toe_distance_mm {
-            c.positive(p.key("toe_distance_mm"), "toe_distance_mm", l);
+            c.positive(|| p.key("toe_distance_mm"), "toe_distance_mm", l);
         }
         if let Some(n) = det.thickness_exponent {
             if !(n.is_finite() && (0.0..=1.0).contains(&n)) {
@@ -424,7 +430,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         };
         if let Some(case) = &det.mean_stress_case {
             c.option_name(
-                p.key("mean_stress_case"),
+                || p.key("mean_stress_case"),
                 "mean-stress case",
                 case,
                 fam.mean_stress.cases.keys().cloned().collect(),
@@ -525,7 +531,7 @@ fn check_component(
         );
     }
     for (k, ev) in ci.loading.iter().enumerate() {
-        let ep = cp.key("loading").index(k);
+        let ep = || cp.key("loading").index(k);
         let sources = [
             ev.blocks.is_some(),
             ev.series.is_some(),
@@ -533,14 +539,14 @@ fn check_component(
         ];
         if sources.iter().filter(|&&x| x).count() != 1 {
             c.push(
-                ep.clone(),
+                ep(),
                 InputErrorKind::MissingField,
                 "an event needs exactly one of `blocks:` or `series:`".into(),
                 Some("split block loading and a measured series into two events".into()),
             );
         }
         match ev.per_year {
-            Some(py) => c.positive(ep.key("per_year"), "per_year", py),
+            Some(py) => c.positive(|| ep().key("per_year"), "per_year", py),
             None => {
                 let timed = ev
                     .series
@@ -548,7 +554,7 @@ fn check_component(
                     .is_some_and(|s| s.record_hours.is_some() && s.hours_per_year.is_some());
                 if !timed {
                     c.push(
-                        ep.clone(),
+                        ep(),
                         InputErrorKind::MissingField,
                         "missing field `per_year` (occurrences of the event per year)".into(),
                         Some(if ev.series.is_some() {
@@ -564,18 +570,18 @@ fn check_component(
         if let Some(blocks) = &ev.blocks {
             if blocks.is_empty() {
                 c.push(
-                    ep.key("blocks"),
+                    ep().key("blocks"),
                     InputErrorKind::MissingField,
                     "blocks is empty".into(),
                     Some("list at least one {range_mpa, cycles} block".into()),
                 );
             }
             for (j, bl) in blocks.iter().enumerate() {
-                check_block(c, bl, &ep.key("blocks").index(j));
+                check_block(c, bl, &|| ep().key("blocks").index(j));
             }
         }
         if let Some(s) = &ev.series {
-            check_series(c, s, &ep.key("series"));
+            check_series(c, s, &ep().key("series"));
         }
     }
 }
@@ -616,20 +622,20 @@ fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath)
     }
 }
 
-fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
+fn check_block(c: &mut Checker, bl: &Block, bp: &dyn Fn() -> YamlPath) {
     match (bl.range_mpa, bl.mean_mpa, bl.max_mpa, bl.min_mpa) {
         (Some(r), mean, None, None) => {
-            c.positive(bp.key("range_mpa"), "range_mpa", r);
+            c.positive(|| bp().key("range_mpa"), "range_mpa", r);
             if let Some(m) = mean {
-                c.finite(bp.key("mean_mpa"), "mean_mpa", m);
+                c.finite(|| bp().key("mean_mpa"), "mean_mpa", m);
             }
         }
         (None, None, Some(hi), Some(lo)) => {
-            c.finite(bp.key("max_mpa"), "max_mpa", hi);
-            c.finite(bp.key("min_mpa"), "min_mpa", lo);
+            c.finite(|| bp().key("max_mpa"), "max_mpa", hi);
+            c.finite(|| bp().key("min_mpa"), "min_mpa", lo);
             if hi.is_finite() && lo.is_finite() && hi <= lo {
                 c.push(
-                    bp.key("max_mpa"),
+                    bp().key("max_mpa"),
                     InputErrorKind::InvalidValue,
                     format!("max_mpa {hi} must exceed min_mpa {lo}"),
                     Some("the range is max_mpa - min_mpa and must be positive".into()),
@@ -637,13 +643,13 @@ fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
             }
         }
         _ => c.push(
-            bp.clone(),
+            bp(),
             InputErrorKind::MissingField,
             "a block needs `range_mpa` (optionally with `mean_mpa`) or both `max_mpa` and `min_mpa`".into(),
             Some("e.g. {range_mpa: 62, cycles: 1} or {max_mpa: 40, min_mpa: -22, cycles: 1}".into()),
         ),
     }
-    c.positive(bp.key("cycles"), "cycles", bl.cycles);
+    c.positive(|| bp().key("cycles"), "cycles", bl.cycles);
 }
 
 fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
@@ -662,17 +668,17 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
             "a strain record needs `modulus_mpa`".into(),
             Some("e.g. `modulus_mpa: 210000` for steel".into()),
         ),
-        (_, Some(e)) => c.positive(sp.key("modulus_mpa"), "modulus_mpa", e),
+        (_, Some(e)) => c.positive(|| sp.key("modulus_mpa"), "modulus_mpa", e),
         _ => {}
     }
     if let Some(f) = s.scale {
-        c.positive(sp.key("scale"), "scale", f);
+        c.positive(|| sp.key("scale"), "scale", f);
     }
     if let Some(h) = s.record_hours {
-        c.positive(sp.key("record_hours"), "record_hours", h);
+        c.positive(|| sp.key("record_hours"), "record_hours", h);
     }
     if let Some(h) = s.hours_per_year {
-        c.positive(sp.key("hours_per_year"), "hours_per_year", h);
+        c.positive(|| sp.key("hours_per_year"), "hours_per_year", h);
     }
     if s.record_hours.is_some() != s.hours_per_year.is_some() {
         c.push(
@@ -693,7 +699,7 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
         }
     }
     if let Some(w) = s.bin_width_mpa {
-        c.positive(sp.key("bin_width_mpa"), "bin_width_mpa", w);
+        c.positive(|| sp.key("bin_width_mpa"), "bin_width_mpa", w);
     }
     if s.bins == Some(0) {
         c.push(
