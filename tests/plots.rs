@@ -110,7 +110,8 @@ fn point(cycles: f64, range_mpa: f64, symbol: &str) -> CurvePoint {
 }
 
 /// EN 1993-1-9 Fig. 7.1 normal-stress curve (from memory): m = 3 to 5·10^6 (ΔσD),
-/// m = 5 to 10^8 (ΔσL), cut-off below ΔσL.
+/// m = 5 to 10^8 (ΔσL), cut-off below ΔσL; knees by the formulas
+/// ΔσD = ΔσC·(2/5)^(1/3) and ΔσL = ΔσD·(5/100)^(1/5) (eqs. (7.2), (7.3)).
 fn en_normal(cat: f64) -> CurveResult {
     let d = cat * (2.0f64 / 5.0).powf(1.0 / 3.0);
     let l = d * (5.0f64 / 100.0).powf(1.0 / 5.0);
@@ -123,7 +124,8 @@ fn en_normal(cat: f64) -> CurveResult {
     }
 }
 
-/// EN 1993-1-9 Fig. 7.2 shear curve (from memory): m = 5 to 10^8 (ΔτL), cut-off.
+/// EN 1993-1-9 Fig. 7.2 shear curve (from memory): m = 5 to 10^8, cut-off below
+/// ΔτL = ΔτC·(2/100)^(1/5).
 fn en_shear(cat: f64) -> CurveResult {
     CurveResult {
         reference_cycles: 2e6,
@@ -134,7 +136,8 @@ fn en_shear(cat: f64) -> CurveResult {
     }
 }
 
-/// IIW normal-stress curve (from memory): m = 3 to 10^7 (knee), then m = 22, no cut-off.
+/// IIW normal-stress curve (from memory): m = 3 to the knee at 10^7,
+/// Δσk = FAT·(2e6/1e7)^(1/3), then m = 22, no cut-off.
 fn iiw_normal(fat: f64) -> CurveResult {
     CurveResult {
         reference_cycles: 2e6,
@@ -154,8 +157,11 @@ fn scaled(c: &CurveResult, f: f64) -> CurveResult {
     d
 }
 
-/// A block: design range, cycles over the design life, and whether it does damage.
-fn block(range_mpa: f64, cycles: f64, damaging: bool) -> BlockResult {
+/// A block: design range (γFf = 1.0, so also the effective range), cycles over the
+/// design life, and its endurance on the design curve as (segment, N), worked by hand
+/// at each call; `None` below the cut-off. Its damage is n/N (Palmgren-Miner,
+/// EN 1993-1-9 A.6). The cycles per year are set by `component`.
+fn block(range_mpa: f64, cycles: f64, endurance: Option<(usize, f64)>) -> BlockResult {
     BlockResult {
         event: "passage".into(),
         origin: "given".into(),
@@ -168,26 +174,38 @@ fn block(range_mpa: f64, cycles: f64, damaging: bool) -> BlockResult {
         mean_stress_factor: 1.0,
         effective_range_mpa: range_mpa,
         design_range_mpa: range_mpa,
-        cycles_per_year: cycles / 25.0,
+        cycles_per_year: 0.0,
         cycles_design_life: cycles,
-        segment: damaging.then_some(1),
-        endurance_cycles: None,
-        damage: if damaging { 0.01 } else { 0.0 },
+        segment: endurance.map(|e| e.0),
+        endurance_cycles: endurance.map(|e| e.1),
+        damage: endurance.map_or(0.0, |e| cycles / e.1),
     }
 }
 
-/// A component on the given characteristic curve; the design curve is it ÷ γMf.
+/// A component on the given characteristic curve over a design life of `years`; the
+/// design curve is it ÷ γMf. Everything else follows from the blocks: D = Σ n/N
+/// (EN 1993-1-9 A.6) with D_lim = 1.0, and γFf·ΔσE,2 = ΔσC,d·(D/D_lim)^(1/m1)
+/// (eq. (8.2) with A.6) with γFf = 1.0. The loading is stated variable amplitude, so no
+/// constant-amplitude limit acts.
 fn component(
     symbol: &str,
     category_symbol: &str,
     characteristic: CurveResult,
     gamma_mf: f64,
-    blocks: Vec<BlockResult>,
+    years: f64,
+    mut blocks: Vec<BlockResult>,
 ) -> ComponentResult {
     let cat = characteristic.reference_range_mpa;
+    let m1 = characteristic.slopes[0];
+    let shear = symbol == "Δτ";
+    for b in &mut blocks {
+        b.cycles_per_year = b.cycles_design_life / years;
+    }
     let damage: f64 = blocks.iter().map(|b| b.damage).sum();
+    let range_ratio = damage.powf(1.0 / m1);
+    let equivalent = cat / gamma_mf * range_ratio;
     ComponentResult {
-        component: if symbol == "Δτ" { "shear" } else { "normal" }.into(),
+        component: if shear { "shear" } else { "normal" }.into(),
         symbol: symbol.into(),
         category_symbol: category_symbol.into(),
         category_mpa: cat,
@@ -208,7 +226,7 @@ fn component(
             case_name: "welded".into(),
             rule: "compressive-fraction".into(),
             source: "none".into(),
-            applies: symbol != "Δτ",
+            applies: !shear,
             acted: false,
         },
         corrected_category_mpa: cat,
@@ -220,30 +238,50 @@ fn component(
         curve_variant: None,
         constant_amplitude_limit_mpa: None,
         amplitude: "variable".into(),
-        amplitude_basis: "the given blocks differ in design range".into(),
+        amplitude_basis: "stated in the project file".into(),
         constant_amplitude_rule_applied: false,
         resistance_at_cycles_mpa: None,
         cycles_design_life: blocks.iter().map(|b| b.cycles_design_life).sum(),
-        blocks,
         damage_by_band: Vec::new(),
-        damage_per_year: damage / 25.0,
+        damage_per_year: damage / years,
         damage,
         damage_limit: 1.0,
-        equivalent_slope_m: 3.0,
-        equivalent_range_mpa: 0.0,
-        design_equivalent_range_mpa: 0.0,
-        range_ratio: 0.0,
-        utilisation: 0.0,
-        life_years: None,
+        equivalent_slope_m: m1,
+        equivalent_range_mpa: equivalent,
+        design_equivalent_range_mpa: equivalent,
+        range_ratio,
+        utilisation: damage,
+        life_years: (damage > 0.0).then(|| years / damage),
         required_category_mpa: None,
-        cycles_below_cut_off: 0.0,
-        max_range_mpa: 0.0,
-        validity_limit_mpa: 532.5,
+        cycles_below_cut_off: blocks
+            .iter()
+            .filter(|b| b.segment.is_none())
+            .map(|b| b.cycles_design_life)
+            .sum(),
+        max_range_mpa: blocks
+            .iter()
+            .map(|b| b.design_range_mpa)
+            .fold(0.0, f64::max),
+        // Δσ <= 1.5·fy, Δτ <= 1.5·fy/√3 for S355 (EN 1993-1-9 8(1))
+        validity_limit_mpa: if shear {
+            1.5 * 355.0 / 3f64.sqrt()
+        } else {
+            532.5
+        },
+        blocks,
         counted: Vec::new(),
     }
 }
 
+/// A detail for the utilisation chart, which reads its id, utilisation and status.
+/// The rest follows from the utilisation on a 25-year design life: utilisation =
+/// D/D_lim = design life / fatigue life with D_lim = 1.0 (Palmgren-Miner, EN 1993-1-9
+/// A.6), and a detail fails when it exceeds 1.0 unless it lies outside the method.
 fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
+    assert!(
+        status == Status::OutsideMethod || (utilisation > 1.0) == (status == Status::Fail),
+        "fixture: {id} {utilisation} {status:?}"
+    );
     DetailResult {
         id: id.into(),
         location: "web".into(),
@@ -258,9 +296,9 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
         utilisation,
         governing_check: "normal".into(),
         checks: Vec::new(),
-        damage: 0.0,
+        damage: utilisation,
         damage_limit: 1.0,
-        life_years: None,
+        life_years: (utilisation > 0.0).then(|| 25.0 / utilisation),
         reserve_factor: None,
         required_category: None,
         components: Vec::new(),
@@ -270,7 +308,26 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
     }
 }
 
+/// A counted record holding the given bins and cells. Its totals follow from them:
+/// the cycles counted (the matrix's, else the histogram's) as full cycles and at most
+/// one half cycle, with half cycles for the residue, so reversals = 2·full + half + 1
+/// (each full cycle closes two reversals, R residue points leave R − 1 half cycles;
+/// ASTM E1049-85 rainflow counting). A record without cycles is a constant one.
 fn record(histogram: Vec<HistogramBin>, matrix: Vec<MatrixCell>) -> CountedRecord {
+    let total: f64 = if matrix.is_empty() {
+        histogram.iter().map(|b| b.cycles).sum()
+    } else {
+        matrix.iter().map(|c| c.cycles).sum()
+    };
+    let full = total.floor() as u64;
+    let half = u64::from(total.fract() == 0.5);
+    let reversals = 2 * full + half + 1;
+    let constant = histogram.is_empty() && matrix.is_empty();
+    let (min_mpa, max_mpa) = if constant {
+        (12.0, 12.0)
+    } else {
+        (-20.0, 60.0)
+    };
     CountedRecord {
         event: "trolley run".into(),
         file: "gauge.csv".into(),
@@ -278,17 +335,17 @@ fn record(histogram: Vec<HistogramBin>, matrix: Vec<MatrixCell>) -> CountedRecor
         unit: "mpa".into(),
         scale: 1.0,
         modulus_mpa: None,
-        samples: 1000,
-        reversals: 200,
-        full_cycles: 90,
-        half_cycles: 4,
-        min_mpa: -20.0,
-        max_mpa: 60.0,
+        samples: reversals.max(1000),
+        reversals,
+        full_cycles: full,
+        half_cycles: half,
+        min_mpa,
+        max_mpa,
         mean_mpa: 12.0,
-        std_dev_mpa: 9.0,
-        constant: false,
+        std_dev_mpa: if constant { 0.0 } else { 9.0 },
+        constant,
         gate_mpa: 0.0,
-        residue: "repeated".into(),
+        residue: "half-cycles".into(),
         repeats_per_year: 100.0,
         bin_width_mpa: 10.0,
         mean_bin_width_mpa: 10.0,
@@ -322,12 +379,20 @@ fn demo() -> seamlife::results::Results {
 
 #[test]
 fn sn_diagram_labels_axes_knees_and_values() {
+    // ΔσC 100, γMf 1.0: 80 MPa lies above ΔσD = 73.68062997, on m = 3:
+    // N = 2e6·(100/80)^3 = 3906250 exactly (EN 1993-1-9 eq. (7.1)); 30 MPa lies below
+    // ΔσL = 40.47131645 and does no damage (Fig. 7.1 cut-off; hand-worked by
+    // tests/tools/hand_worked.py).
     let c = component(
         "Δσ",
         "ΔσC",
         en_normal(100.0),
         1.0,
-        vec![block(80.0, 1e5, true), block(30.0, 1e6, false)],
+        25.0,
+        vec![
+            block(80.0, 1e5, Some((1, 3906250.0))),
+            block(30.0, 1e6, None),
+        ],
     );
     let svg = sn_diagram(&c, 25.0);
     // Axis titles with units (the range symbol comes from the component).
@@ -341,8 +406,8 @@ fn sn_diagram_labels_axes_knees_and_values() {
     for t in ["20", "50", "100"] {
         assert_text(&svg, t);
     }
-    // ΔσD = (2/5)^(1/3)·ΔσC = 73.7 and ΔσL = (5/100)^(1/5)·ΔσD = 40.5 for ΔσC = 100
-    // (EN 1993-1-9 Fig. 7.1, from memory).
+    // ΔσD = (2/5)^(1/3)·ΔσC = 73.68062997 and ΔσL = (5/100)^(1/5)·ΔσD = 40.47131645 for
+    // ΔσC = 100 (EN 1993-1-9 Fig. 7.1 knee formulas, hand-worked), printed to 0.1 MPa.
     assert_text(&svg, "ΔσC = 100");
     assert_text(&svg, "ΔσD = 73.7");
     assert_text(&svg, "ΔσL = 40.5");
@@ -356,25 +421,34 @@ fn sn_diagram_labels_axes_knees_and_values() {
     // Spectrum over the design life in the key.
     assert_text(&svg, "cumulative, 25 years");
     assert_text(&svg, "Σn = 1.1·10⁶ cycles");
+    // D = 1e5/3906250 = 0.0256 (EN 1993-1-9 A.6, hand-worked), printed to 3 figures;
+    // γFf·ΔσE,2 = 100·0.0256^(1/3) = 29.47 (eq. (8.2) with A.6, hand-worked)
+    assert_text(&svg, "D = 0.0256");
+    assert_text(&svg, "γFf·ΔσE,2 = 29.5");
 }
 
 #[test]
 fn sn_diagram_design_values_after_gamma_mf() {
+    // ΔσC,d = 100/1.35 = 74.07407407, ΔσD,d = 54.57824442 < 60: m = 3,
+    // N = 2e6·(74.07407407/60)^3 = 3763352.846 (EN 1993-1-9 eq. (7.1), hand-worked)
     let c = component(
         "Δσ",
         "ΔσC",
         en_normal(100.0),
         1.35,
-        vec![block(60.0, 2e5, true)],
+        50.0,
+        vec![block(60.0, 2e5, Some((1, 3763352.846)))],
     );
     let svg = sn_diagram(&c, 50.0);
-    // ΔσC/γMf = 100/1.35 = 74.1, ΔσD/γMf = 73.68/1.35 = 54.6, ΔσL/γMf = 40.52/1.35 = 30.0
-    // (EN 1993-1-9 eq. (8.2) denominator; knees from Fig. 7.1, from memory; hand-worked)
+    // ΔσC/γMf = 74.07407407, ΔσD/γMf = 54.57824442, ΔσL/γMf = 29.97875292 (EN 1993-1-9
+    // eq. (8.2) denominator, Fig. 7.1 knee formulas; hand-worked), printed to 0.1 MPa
     assert_text(&svg, "ΔσC/γMf = 74.1");
     assert_text(&svg, "ΔσD/γMf = 54.6");
     assert_text(&svg, "ΔσL/γMf = 30.0");
     assert_text(&svg, "characteristic ÷ γMf = 1.35");
     assert_text(&svg, "slopes m = 3, 5");
+    // D = 2e5/3763352.846 = 0.0531441 (A.6, hand-worked), printed to 3 figures
+    assert_text(&svg, "D = 0.0531");
     // The design curve is dashed: plotters writes each dash as its own polyline, so
     // there are many more polylines than series.
     let polylines = svg.matches("<polyline").count();
@@ -383,36 +457,43 @@ fn sn_diagram_design_values_after_gamma_mf() {
 
 #[test]
 fn sn_diagram_marks_the_equivalent_range() {
-    let mut c = component(
-        "Δσ",
-        "ΔσC",
-        en_normal(71.0),
-        1.35,
-        vec![block(50.0, 4e5, true)],
-    );
-    c.design_equivalent_range_mpa = 45.04;
+    // ΔσC 71, γMf 1.35: ΔσC,d = 52.59259259, ΔσD,d = 38.75055354 < 50, so m = 3:
+    // N = 2e6·(52.59259259/50)^3 = 2327521.618 (EN 1993-1-9 eq. (7.1)); 4e5 cycles give
+    // D = 0.1718566208 (A.6) and γFf·ΔσE,2 = ΔσC,d·(D/D_lim)^(1/3) = 29.24017738 MPa
+    // (eq. (8.2) with A.6, D_lim = 1.0), the same as 50·(4e5/2e6)^(1/3) for one block
+    // (all hand-worked by tests/tools/hand_worked.py).
+    let on_71 = |b: BlockResult| component("Δσ", "ΔσC", en_normal(71.0), 1.35, 25.0, vec![b]);
+    let c = on_71(block(50.0, 4e5, Some((1, 2327521.618))));
+    assert!((c.damage - 0.1718566208).abs() <= 1e-9 * 0.1718566208);
+    assert!((c.design_equivalent_range_mpa - 29.24017738).abs() <= 1e-9 * 29.24017738);
     let svg = sn_diagram(&c, 25.0);
-    // γFf·ΔσE,2 at the 2·10^6 reference cycles (EN 1993-1-9 8(2) notation)
-    assert_text(&svg, "γFf·ΔσE,2 = 45.0");
+    // γFf·ΔσE,2 at the 2·10^6 reference cycles (EN 1993-1-9 8(2) notation), to 0.1 MPa
+    assert_text(&svg, "γFf·ΔσE,2 = 29.2");
     assert_text(&svg, "at N = 2·10⁶");
+    assert_text(&svg, "D = 0.172");
     // A diamond: the only four-point polygon in the figure.
     assert!(svg.contains("<polygon"));
-    // Without damage there is no equivalent range to mark.
-    c.design_equivalent_range_mpa = 0.0;
+    // Without damage there is no equivalent range to mark: 20 MPa lies below
+    // ΔσL,d = 21.28491458 (Fig. 7.1 cut-off, hand-worked), so D = 0.
+    let c = on_71(block(20.0, 4e5, None));
+    assert_eq!(c.design_equivalent_range_mpa, 0.0);
     let svg = sn_diagram(&c, 25.0);
     assert!(!texts(&svg).iter().any(|t| t.starts_with("γFf·ΔσE,2")));
     assert!(!svg.contains("<polygon"));
+    assert_text(&svg, "D = 0");
 }
 
 #[test]
 fn sn_diagram_shear_curve_has_one_segment() {
-    // ΔτL = (2/100)^(1/5)·ΔτC = 36.6 for ΔτC = 80 (EN 1993-1-9 Fig. 7.2, from memory)
+    // ΔτL = (2/100)^(1/5)·ΔτC = 36.58440415 for ΔτC = 80 (EN 1993-1-9 Fig. 7.2 formula,
+    // hand-worked); the 31 MPa block lies below it and does no damage.
     let c = component(
         "Δτ",
         "ΔτC",
         en_shear(80.0),
         1.0,
-        vec![block(31.0, 2.25e5, false)],
+        25.0,
+        vec![block(31.0, 2.25e5, None)],
     );
     let svg = sn_diagram(&c, 25.0);
     assert_text(&svg, "Δτ (MPa)");
@@ -425,15 +506,20 @@ fn sn_diagram_shear_curve_has_one_segment() {
 
 #[test]
 fn sn_diagram_open_tail_has_no_cut_off() {
-    // IIW FAT 90: knee at 10^7 = 0.585·FAT = 52.6 (IIW 3.2.1, from memory)
+    // IIW FAT 90: knee at 10^7 = (2e6/1e7)^(1/3)·FAT = 52.63231929 (IIW 3.2.1, from
+    // memory; hand-worked). The 40 MPa block lies below it, on m = 22:
+    // N = 1e7·(52.63231929/40)^22 = 4190205925, D = 3e6/N = 0.0007159552665 (IIW curve
+    // form, from memory; hand-worked by tests/tools/hand_worked.py).
     let c = component(
         "Δσ",
         "FAT",
         iiw_normal(90.0),
         1.0,
-        vec![block(40.0, 3e6, true)],
+        20.0,
+        vec![block(40.0, 3e6, Some((2, 4190205925.0)))],
     );
     let svg = sn_diagram(&c, 20.0);
+    assert_text(&svg, "D = 0.000716");
     assert_text(&svg, "FAT = 90");
     assert_text(&svg, "Δσk = 52.6");
     assert_text(&svg, "slopes m = 3, 22");
@@ -442,13 +528,19 @@ fn sn_diagram_open_tail_has_no_cut_off() {
 
 #[test]
 fn sn_diagram_widens_the_axes_for_huge_counts_and_low_ranges() {
-    // 10^10 cycles over the design life and a range far below ΔσL = 40.5.
+    // 10^10 cycles over the design life and a range far below ΔσL = 40.47131645. The
+    // 120 MPa block on m = 3: N = 2e6·(100/120)^3 = 1157407.407 (EN 1993-1-9 eq. (7.1),
+    // hand-worked).
     let c = component(
         "Δσ",
         "ΔσC",
         en_normal(100.0),
         1.0,
-        vec![block(120.0, 1e3, true), block(4.0, 1e10, false)],
+        100.0,
+        vec![
+            block(120.0, 1e3, Some((1, 1157407.407))),
+            block(4.0, 1e10, None),
+        ],
     );
     let svg = sn_diagram(&c, 100.0);
     // The cycles axis runs past 10^10 (to 10^11) and starts below the 10^3 of the
@@ -469,14 +561,16 @@ fn sn_diagram_widens_the_axes_for_huge_counts_and_low_ranges() {
         .count();
     // The hollow marker is a white disc and a black ring: 2 + 1 circles, plus the key's.
     assert!(markers >= 3, "markers: {markers}");
+    // D = 1e3/1157407.407 = 0.000864 (A.6, hand-worked)
+    assert_text(&svg, "D = 0.000864");
 }
 
 #[test]
 fn sn_diagram_without_blocks_still_draws_the_curves() {
-    let c = component("Δσ", "ΔσC", en_normal(36.0), 1.35, Vec::new());
+    let c = component("Δσ", "ΔσC", en_normal(36.0), 1.35, 25.0, Vec::new());
     let svg = sn_diagram(&c, 25.0);
     assert_text(&svg, "ΔσC = 36");
-    // ΔσD = 0.737·36 = 26.5 (EN 1993-1-9 Fig. 7.1, from memory)
+    // ΔσD = (2/5)^(1/3)·36 = 26.52502679 (EN 1993-1-9 Fig. 7.1 knee formula, hand-worked)
     assert_text(&svg, "ΔσD = 26.5");
     assert_text(&svg, "Σn = 0 cycles");
     assert!(!texts(&svg).iter().any(|t| t.starts_with("design spectrum")));
@@ -705,14 +799,14 @@ fn matrix_heatmap_grey_levels_and_key() {
 
 #[test]
 fn empty_records_say_no_cycles_counted() {
-    let mut rec = record(Vec::new(), Vec::new());
-    rec.constant = true;
+    let rec = record(Vec::new(), Vec::new());
+    assert!(rec.constant);
     let m = matrix_heatmap(&rec);
     assert_text(&m, "no cycles counted");
     assert_text(&m, "the record is constant");
     let h = histogram(&rec);
     assert_text(&h, "no cycles counted");
-    // Zero-cycle cells count as empty too.
+    // Zero-cycle cells count as empty too (an awkward input a count never yields).
     let z = matrix_heatmap(&record(Vec::new(), vec![cell(0.0, 0.0, 0.0)]));
     assert_text(&z, "no cycles counted");
 }
@@ -724,12 +818,15 @@ fn empty_records_say_no_cycles_counted() {
 #[test]
 fn figures_are_deterministic_and_escape_text() {
     let hostile = "a<b&\"c'";
+    // ΔσC 90, γMf 1.35: ΔσC,d = 66.66666667, ΔσD,d = 49.12041998 < 70, on m = 3:
+    // N = 2e6·(66.66666667/70)^3 = 1727675.197 (EN 1993-1-9 eq. (7.1), hand-worked)
     let mut c = component(
         "Δσ",
         "ΔσC",
         en_normal(90.0),
         1.35,
-        vec![block(70.0, 2e5, true)],
+        25.0,
+        vec![block(70.0, 2e5, Some((1, 1727675.197)))],
     );
     c.symbol = hostile.into();
     let mut rec = record(

@@ -1,10 +1,13 @@
 //! Property tests of the rainflow counter and the binning.
 //!
 //! What these properties check, precisely:
-//! - The cycles equal, exactly, those of a plain transcription of the ASTM
-//!   E1049-85 §5.4.4 three-point procedure as PyPI rainflow 3.2.0 implements
-//!   it (reversals() and extract_cycles()), save the two documented
-//!   differences (two-sample and constant records).
+//! - The cycles equal, exactly, those of the ASTM E1049-85 §5.4.4 rainflow
+//!   procedure applied step by step to the record's peaks and valleys (the
+//!   oracle below, written from the standard's rules, itself checked on the
+//!   standard's example), with seamlife's treatment of the record ends: a
+//!   two-sample record gives one half cycle and a constant record no cycle
+//!   (PyPI rainflow 3.2.0 gives none and one zero-range half cycle; its golden
+//!   counts are compared in tests/rainflow_reference.rs).
 //! - HalfCycles mode, gate 0: 2 × full + half = reversals − 1.
 //! - Scaling by k > 0 scales ranges and means by k; adding a constant c adds
 //!   c to the means only. Exact for integer-valued signals with k a power of
@@ -28,80 +31,117 @@
 
 mod common;
 
-use common::{key_sorted, same_within, sort_keys, sorted};
+use common::{astm_example_cycles, key_sorted, same_within, sort_keys, sorted, ASTM_EXAMPLE};
 use proptest::prelude::*;
 use seamlife::rainflow::{
     count_slice, count_slice_parallel, cycles, Cycle, RainflowCounter, ResidueMode,
 };
 use seamlife::spectrum::{BinRule, Spectrum, SpectrumSpec};
-use std::collections::{BTreeMap, VecDeque};
+use std::collections::BTreeMap;
 
-// ---- plain transcription of PyPI rainflow 3.2.0 (reversals + extract_cycles) ----
+// ---- the ASTM E1049-85 rainflow procedure, written from the standard's rules ----
 
-fn reference_reversals(xs: &[f64]) -> Vec<f64> {
-    if xs.len() < 2 {
-        // the reference yields nothing; the counter keeps the lone sample (no cycle either way)
-        return xs.to_vec();
-    }
-    let mut out = vec![xs[0]];
-    let mut x = xs[1];
-    let mut d_last = x - xs[0];
-    let mut x_next = x;
-    for &xn in &xs[2..] {
-        x_next = xn;
-        if xn == x {
-            continue;
-        }
-        let d_next = xn - x;
-        if d_last * d_next < 0.0 {
-            out.push(x);
-        }
-        x = xn;
-        d_last = d_next;
-    }
-    if xs.len() >= 3 {
-        out.push(x_next);
-    }
-    // documented differences of the counter
-    if xs.len() == 2 && xs[1] != xs[0] {
-        out.push(xs[1]);
-    }
-    if xs.iter().all(|&v| v == xs[0]) {
-        out.truncate(1);
-    }
-    out
-}
-
-fn three_point(revs: &[f64]) -> Vec<(f64, f64, f64)> {
-    let mut out = Vec::new();
-    let cyc = |a: f64, b: f64, n: f64| (n, (a - b).abs(), 0.5 * (a + b));
-    let mut pts: VecDeque<f64> = VecDeque::new();
-    for &p in revs {
-        pts.push_back(p);
-        while pts.len() >= 3 {
-            let k = pts.len();
-            let (x1, x2, x3) = (pts[k - 3], pts[k - 2], pts[k - 1]);
-            let (xr, yr) = ((x3 - x2).abs(), (x2 - x1).abs());
-            if xr < yr {
-                break;
-            } else if k == 3 {
-                out.push(cyc(pts[0], pts[1], 0.5));
-                pts.pop_front();
-            } else {
-                out.push(cyc(x1, x2, 1.0));
-                let last = pts.pop_back().unwrap();
-                pts.pop_back();
-                pts.pop_back();
-                pts.push_back(last);
+/// The peaks and valleys of a record (ASTM E1049-85 §5.4.4 counts them, from
+/// memory): runs of equal samples count once, a sample where the direction of the
+/// record changes is a peak or valley, and the first and last samples count as
+/// reversals too. seamlife's treatment of the record ends, which this follows: a
+/// two-sample record gives both samples (one half cycle), and a constant record its
+/// first sample only (no cycle). (PyPI rainflow 3.2.0 differs in both; see
+/// tests/rainflow_reference.rs.)
+fn peaks_and_valleys(xs: &[f64]) -> Vec<f64> {
+    let mut kept: Vec<f64> = Vec::new();
+    for &x in xs {
+        match kept.len() {
+            0 => kept.push(x),
+            _ if x == kept[kept.len() - 1] => {} // a plateau: the same point
+            1 => kept.push(x),
+            n => {
+                let rising_before = kept[n - 1] > kept[n - 2];
+                let rising_now = x > kept[n - 1];
+                if rising_before == rising_now {
+                    // same direction: the last kept point was no turn; the run goes on
+                    kept[n - 1] = x;
+                } else {
+                    kept.push(x);
+                }
             }
         }
     }
-    while pts.len() > 1 {
-        out.push(cyc(pts[0], pts[1], 0.5));
-        pts.pop_front();
+    kept
+}
+
+/// (count, range, mean) of one counted range from reversal `a` to reversal `b`:
+/// range |a − b|, mean (a + b)/2 (ASTM E1049-85 definitions, from memory).
+fn counted(a: f64, b: f64, count: f64) -> (f64, f64, f64) {
+    (count, (a - b).abs(), 0.5 * (a + b))
+}
+
+/// ASTM E1049-85 §5.4.4 rainflow counting (from memory), its steps in order. X is
+/// the range of the two latest points not yet discarded, Y the range just before it,
+/// S the starting point of the history.
+///   1. Read the next peak or valley; when there are no more, go to step 6.
+///   2. With fewer than three points, go to step 1; else form X and Y from the
+///      three latest points.
+///   3. If X < Y, go to step 1; if X >= Y, go to step 4.
+///   4. If Y contains S, go to step 5; else count Y as one cycle, discard both its
+///      points and go to step 2.
+///   5. Count Y as one half cycle, discard its first point, move S to its second
+///      point, and go to step 2.
+///   6. Count each range not yet counted as one half cycle.
+fn astm_rainflow(reversals: &[f64]) -> Vec<(f64, f64, f64)> {
+    let mut cycles = Vec::new();
+    // points read and not discarded, oldest first; S is always the oldest one
+    let mut points: Vec<f64> = Vec::new();
+    for &p in reversals {
+        points.push(p); // step 1
+        loop {
+            let n = points.len();
+            if n < 3 {
+                break; // step 2
+            }
+            let (y_from, y_to, x_to) = (points[n - 3], points[n - 2], points[n - 1]);
+            if (x_to - y_to).abs() < (y_to - y_from).abs() {
+                break; // step 3: X < Y
+            }
+            if n == 3 {
+                // step 5: Y starts at S
+                cycles.push(counted(y_from, y_to, 0.5));
+                points.remove(0);
+            } else {
+                // step 4
+                cycles.push(counted(y_from, y_to, 1.0));
+                points.drain(n - 3..n - 1);
+            }
+        }
     }
-    sort_keys(&mut out);
-    out
+    // step 6
+    for pair in points.windows(2) {
+        cycles.push(counted(pair[0], pair[1], 0.5));
+    }
+    sort_keys(&mut cycles);
+    cycles
+}
+
+#[test]
+fn the_procedure_reproduces_the_astm_example() {
+    // ASTM E1049-85 rainflow example (Fig. 6 and its table, from memory): reversals
+    // -2 1 -3 5 -1 3 -4 4 -2 give half cycles of range 3, 4, 6, 8, 8, 9 and one full
+    // cycle of range 4 (mean 1, from -1 to 3)
+    assert_eq!(peaks_and_valleys(&ASTM_EXAMPLE), ASTM_EXAMPLE.to_vec());
+    assert_eq!(astm_rainflow(&ASTM_EXAMPLE), astm_example_cycles());
+    // peaks and valleys of a record with plateaus and runs: 0 0 2 3 3 1 -1 -1 4 4
+    // turns at 3 and -1; both ends count (ASTM E1049-85 §5.4.4, from memory)
+    assert_eq!(
+        peaks_and_valleys(&[0.0, 0.0, 2.0, 3.0, 3.0, 1.0, -1.0, -1.0, 4.0, 4.0]),
+        vec![0.0, 3.0, -1.0, 4.0]
+    );
+    // seamlife's record ends: two samples give one half cycle, a constant record none
+    assert_eq!(
+        astm_rainflow(&peaks_and_valleys(&[1.5, -2.25])),
+        vec![(0.5, 3.75, -0.375)]
+    );
+    assert_eq!(peaks_and_valleys(&[7.0; 5]), vec![7.0]);
+    assert!(astm_rainflow(&peaks_and_valleys(&[7.0; 5])).is_empty());
 }
 
 /// Cases per property: 400, or PROPTEST_CASES for a deeper run.
@@ -173,8 +213,8 @@ proptest! {
     #![proptest_config(ProptestConfig::with_cases(cases()))]
 
     #[test]
-    fn agrees_with_three_point_procedure(xs in signal()) {
-        let expected = three_point(&reference_reversals(&xs));
+    fn agrees_with_the_astm_procedure(xs in signal()) {
+        let expected = astm_rainflow(&peaks_and_valleys(&xs));
         prop_assert_eq!(count(&xs, 0.0, ResidueMode::HalfCycles), expected.clone());
         // the per-sample path too
         let mut by_sample = Vec::new();
@@ -184,7 +224,7 @@ proptest! {
         }
         let stats = c.finish(ResidueMode::HalfCycles, &mut |cy| by_sample.push(cy));
         prop_assert_eq!(key_sorted(&by_sample), expected);
-        prop_assert_eq!(stats.reversals, reference_reversals(&xs).len() as u64);
+        prop_assert_eq!(stats.reversals, peaks_and_valleys(&xs).len() as u64);
     }
 
     #[test]
@@ -289,11 +329,11 @@ proptest! {
     #[test]
     fn repeated_mode_is_the_steady_state_of_back_to_back_copies(xs in signal()) {
         // cycles of three copies minus cycles of two (half cycles weigh 0.5),
-        // counted with the plain ASTM procedure
+        // counted with the ASTM E1049-85 procedure above
         let two: Vec<f64> = xs.iter().chain(&xs).copied().collect();
         let three: Vec<f64> = two.iter().chain(&xs).copied().collect();
-        let per_period = minus(&weighted(&count(&three, 0.0, ResidueMode::HalfCycles)),
-                               &weighted(&count(&two, 0.0, ResidueMode::HalfCycles)));
+        let per_period = minus(&weighted(&astm_rainflow(&peaks_and_valleys(&three))),
+                               &weighted(&astm_rainflow(&peaks_and_valleys(&two))));
         let repeated = weighted(&count(&xs, 0.0, ResidueMode::Repeated));
         prop_assert_eq!(repeated, per_period);
     }
@@ -374,9 +414,9 @@ proptest! {
     #![proptest_config(ProptestConfig::with_cases(cases() / 10))]
 
     #[test]
-    fn long_signals_agree_with_three_point_procedure(xs in long_signal(), gate in prop_oneof![Just(0.0), 0.5f64..4.0]) {
+    fn long_signals_agree_with_the_astm_procedure(xs in long_signal(), gate in prop_oneof![Just(0.0), 0.5f64..4.0]) {
         if gate == 0.0 {
-            prop_assert_eq!(count(&xs, 0.0, ResidueMode::HalfCycles), three_point(&reference_reversals(&xs)));
+            prop_assert_eq!(count(&xs, 0.0, ResidueMode::HalfCycles), astm_rainflow(&peaks_and_valleys(&xs)));
         }
         // the per-sample path (no pruning) and the slice path agree, gated or not
         for mode in [ResidueMode::HalfCycles, ResidueMode::Repeated] {

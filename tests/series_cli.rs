@@ -251,24 +251,54 @@ fn constant_signal_gives_zero_damage_and_says_so() {
     assert_eq!(d["components"][0]["counted"][0]["full_cycles"], 0);
 }
 
+/// Relative tolerance for a hand-worked value written to 10 significant figures
+/// (rounding at most 5e-10 relative). The values are worked from the EN 1993-1-9
+/// formulas in 40-digit decimal arithmetic by tests/tools/hand_worked.py, independently
+/// of seamlife.
+const HAND: f64 = 1e-9;
+
+fn close(a: f64, b: f64) -> bool {
+    (a - b).abs() <= HAND * b.abs()
+}
+
+/// The normal-stress damage of the one component of `yaml`, from `assess --json`.
+fn component_damage(dir: &Path, yaml: &str) -> f64 {
+    let (code, out, err) = assess_in(dir, yaml);
+    assert!(code <= 1, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    v["details"][0]["components"][0]["damage"].as_f64().unwrap()
+}
+
 #[test]
 fn series_and_blocks_combine_in_one_component() {
-    // Damage is additive over loading events (Palmgren-Miner), so a component holding a
-    // series and a block event has the sum of the two damages when both sit above the
-    // constant-amplitude rule (EN 1993-1-9 A.6, common practice).
+    // The record: the ASTM E1049-85 rainflow example (reversals -2, 1, -3, 5, -1, 3,
+    // -4, 4, -2; from memory) times 10 MPa, repeated 2000 times a year. Counted by hand
+    // as a repeating history (ASTM E1049-85 §5.4.5, from memory): begin at the highest
+    // peak, 50, -10, 30, -40, 40, -20, then the start of the next repetition, 10, -30,
+    // 50 (the end -20 and the start -20 join into one valley). Read reversals onto a
+    // stack; while the last range X (latest two points) is at least the range Y before
+    // it, count Y as one cycle and drop its two points:
+    //   50 -10 30:        X = 40 < Y = 60
+    //   -40:              X = 70 >= Y = 40: cycle -10..30 (40 MPa)
+    //   50 -40 40 -20 10: X = 30 < Y = 60
+    //   -30:              X = 40 >= Y = 30: cycle -20..10 (30 MPa); then
+    //                     50 -40 40 -30: X = 70 < Y = 80
+    //   50:               X = 80 >= Y = 70: cycle 40..-30 (70 MPa); then stack 50 -40 50:
+    //                     X = 90 >= Y = 90: cycle 50..-40 (90 MPa), closing the history.
+    // Full cycles of 90, 70, 40 and 30 MPa per repetition. With 10 MPa range bins each
+    // cycle has its own bin, so each block carries its own range.
     let dir = tempfile::tempdir().unwrap();
-    std::fs::copy(record(), dir.path().join("rec.csv")).unwrap();
-    let s = "            file: rec.csv\n            column: sg4_microstrain\n            unit: microstrain\n            modulus_mpa: 210000\n            gate_mpa: 2\n";
+    let mut rec = String::from("t,s\n");
+    for (i, x) in [-20, 10, -30, 50, -10, 30, -40, 40, -20].iter().enumerate() {
+        rec.push_str(&format!("{i},{x}\n"));
+    }
+    std::fs::write(dir.path().join("rec.csv"), rec).unwrap();
+    let s = "            file: rec.csv\n            column: s\n            unit: mpa\n            bin_width_mpa: 10\n";
     let blocks = "        - event: design passage\n          per_year: 9000\n          blocks: [{range_mpa: 70, cycles: 1}, {range_mpa: 45, cycles: 1}]\n";
-    let damage = |yaml: &str| -> f64 {
-        let (code, out, err) = assess_in(dir.path(), yaml);
-        assert!(code <= 1, "{err}");
-        let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-        v["details"][0]["components"][0]["damage"].as_f64().unwrap()
-    };
-    let series_only = damage(&project(s, ""));
-    let both = damage(&project(s, blocks));
-    let blocks_only = damage(
+    let series_only = component_damage(dir.path(), &project(s, ""));
+    let both = component_damage(dir.path(), &project(s, blocks));
+    let blocks_only = component_damage(
+        dir.path(),
         &project(s, blocks)
             .replace(
                 "        - event: measured\n          per_year: 2000\n          series:\n",
@@ -276,8 +306,75 @@ fn series_and_blocks_combine_in_one_component() {
             )
             .replace(s, ""),
     );
-    assert!(series_only > 0.0 && blocks_only > 0.0);
-    assert!((both - (series_only + blocks_only)).abs() <= 1e-12 * both);
+    // Category 56 (attachment-longitudinal-over-100, EN 1993-1-9 Table 8.4, from memory),
+    // γMf = 1.35 (Table 3.1, safe life, high consequence): ΔσC,d = 41.48148148,
+    // ΔσD,d = ΔσC,d·(2/5)^(1/3) = 30.56381688, ΔσL,d = 16.78810164 (Fig. 7.1).
+    // Record: 2000·25 = 5e4 cycles of each range. 90, 70, 40 MPa on m = 3,
+    // N = 2e6·(ΔσC,d/Δσ)^3 (eq. (7.1)): 195823.6958, 416196.7180, 2230554.285;
+    // 30 MPa < ΔσD,d on m = 5, N = 5e6·(ΔσD,d/30)^5 (eq. (7.2)): 5487842.965.
+    // D = Σ 5e4/N = 0.4069942134 (A.6, Palmgren-Miner; hand-worked).
+    assert!(close(series_only, 0.4069942134), "{series_only}");
+    // Blocks: 9000·25 = 225000 cycles each of 70 and 45 MPa, both on m = 3:
+    // D = 0.6842338306 (eq. (7.1), A.6; hand-worked)
+    assert!(close(blocks_only, 0.6842338306), "{blocks_only}");
+    // Damage adds over loading events (Palmgren-Miner, A.6): 1.091228044 (hand-worked)
+    assert!(close(both, 1.091228044), "{both}");
+}
+
+#[test]
+fn counted_record_damage_follows_the_reference_count() {
+    // The block-loading signal counted with half cycles for the residue, as the golden
+    // count of PyPI rainflow 3.2.0 extract_cycles does
+    // (tests/data/rainflow/block_loading.cycles.csv). Its values are multiples of
+    // 0.5 MPa, so every range is one too; with 0.5 MPa range bins each block carries
+    // exactly the range of its cycles.
+    let data = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/rainflow");
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        data.join("block_loading.signal.csv"),
+        dir.path().join("rec.csv"),
+    )
+    .unwrap();
+    let s = "            file: rec.csv\n            column: stress_mpa\n            unit: mpa\n            residue: half-cycles\n            bin_width_mpa: 0.5\n";
+    let (code, out, err) = assess_in(dir.path(), &project(s, ""));
+    assert!(code <= 1, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let c = &v["details"][0]["components"][0];
+
+    // The golden cycles, and the damage of each by EN 1993-1-9 in this test: category
+    // 56, γMf = 1.35 (Table 8.4 from memory, Table 3.1), 2000·25 = 5e4 repetitions of
+    // the record; N = 2e6·(ΔσC,d/Δσ)^3 at or above ΔσD,d (eq. (7.1)),
+    // 5e6·(ΔσD,d/Δσ)^5 down to ΔσL,d (eq. (7.2)), none below (7.1(3) cut-off).
+    let c_d = 56.0 / 1.35;
+    let d_d = c_d * 0.4f64.powf(1.0 / 3.0);
+    let l_d = d_d * 0.05f64.powf(0.2);
+    let mut rdr = csv::Reader::from_path(data.join("block_loading.cycles.csv")).unwrap();
+    let (mut full, mut half, mut damage) = (0u64, 0u64, 0.0);
+    for r in rdr.records() {
+        let r = r.unwrap();
+        let range: f64 = r[0].parse().unwrap();
+        let count: f64 = r[2].parse().unwrap();
+        if count == 1.0 {
+            full += 1;
+        } else {
+            half += 1;
+        }
+        let n = if range >= d_d {
+            2e6 * (c_d / range).powi(3)
+        } else if range >= l_d {
+            5e6 * (d_d / range).powi(5)
+        } else {
+            continue;
+        };
+        damage += count * 2000.0 * 25.0 / n;
+    }
+    // D = 1157.444407 (hand-worked from the same golden cycles by
+    // tests/tools/hand_worked.py): the test's own sum agrees, and so does the program
+    assert!(close(damage, 1157.444407), "{damage}");
+    assert_eq!(c["counted"][0]["full_cycles"], full);
+    assert_eq!(c["counted"][0]["half_cycles"], half);
+    let got = c["damage"].as_f64().unwrap();
+    assert!(close(got, 1157.444407), "{got}");
 }
 
 #[test]

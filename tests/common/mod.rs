@@ -4,6 +4,28 @@
 use seamlife::rainflow::Cycle;
 use std::cmp::Ordering;
 
+/// ASTM E1049-85 rainflow example reversals A..I (from memory).
+pub const ASTM_EXAMPLE: [f64; 9] = [-2.0, 1.0, -3.0, 5.0, -1.0, 3.0, -4.0, 4.0, -2.0];
+
+/// The example's cycles as (count, range, mean), sorted: half cycles of range 3, 4,
+/// 6, 8, 8, 9 and one full cycle of range 4 (ASTM E1049-85 rainflow example table,
+/// from memory); each mean is (a + b)/2 of the two reversals bounding the cycle. The
+/// same as the golden count of PyPI rainflow 3.2.0 extract_cycles
+/// (tests/data/rainflow/astm_example.cycles.csv).
+pub fn astm_example_cycles() -> Vec<(f64, f64, f64)> {
+    let mut v = vec![
+        (0.5, 3.0, -0.5),
+        (0.5, 4.0, -1.0),
+        (1.0, 4.0, 1.0),
+        (0.5, 8.0, 1.0),
+        (0.5, 9.0, 0.5),
+        (0.5, 8.0, 0.0),
+        (0.5, 6.0, 1.0),
+    ];
+    sort_keys(&mut v);
+    v
+}
+
 /// (count, range, mean) of each cycle, sorted in a total order.
 pub fn key_sorted(cycles: &[Cycle]) -> Vec<(f64, f64, f64)> {
     let mut v: Vec<(f64, f64, f64)> = cycles.iter().map(|c| (c.count, c.range, c.mean)).collect();

@@ -1,0 +1,248 @@
+#!/usr/bin/env python3
+"""Worksheet of the hand-worked check values used by the tests.
+
+Every value is worked here from the formulas of the standards, in decimal
+arithmetic to 40 digits, independently of seamlife: this script neither
+imports nor runs seamlife and reads nothing it writes. The only input file is
+the committed golden count of the reference library PyPI rainflow 3.2.0
+(tests/data/rainflow/block_loading.cycles.csv).
+
+Formulas (EN 1993-1-9:2005, from memory where the clause says so):
+  ΔσC,d = ks·ΔσC/γMf                           eq. (8.2) denominator
+  ΔσD   = ΔσC·(2/5)^(1/3)                      Fig. 7.1, eq. (7.2): knee at 5e6
+  ΔσL   = ΔσD·(5/100)^(1/5)                    Fig. 7.1, eq. (7.3): cut-off at 1e8
+  ΔτL   = ΔτC·(2/100)^(1/5)                    Fig. 7.2
+  N     = 2e6·(ΔσC,d/Δσ)^3    for Δσ >= ΔσD,d   eq. (7.1)
+  N     = 5e6·(ΔσD,d/Δσ)^5    for ΔσL,d <= Δσ < ΔσD,d   eq. (7.2)
+  N     = 2e6·(ΔτC,d/Δτ)^5    for Δτ >= ΔτL,d   eq. (7.2) form of Fig. 7.2
+  D     = Σ n/N                                Annex A, A.6 (Palmgren-Miner)
+  γFf·ΔσE,2 = ΔσC,d·(D/D_lim)^(1/m1)           eq. (8.2) with A.6
+  ks    = (25/t)^0.2                           7.2.2, Table 8.3
+IIW (from memory): knee at 1e7, m = 3 above it, m = 22 (or 5) below it.
+
+Run from the crate root: python3 tests/tools/hand_worked.py
+"""
+import csv
+import os
+from decimal import Decimal as D, getcontext
+
+getcontext().prec = 40
+HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+def root(x, n):
+    return D(x) ** (D(1) / D(n))
+
+
+def p(name, v):
+    print(f"{name:48s} {D(v):.10g}")
+
+
+def en_normal(cat, gmf=1):
+    """(ΔσC,d, ΔσD,d, ΔσL,d) of the EN normal-stress curve."""
+    c = D(cat) / D(gmf)
+    d = c * root(D(2) / 5, 3)
+    return c, d, d * root(D(5) / 100, 5)
+
+
+def en_endurance(rng, cat, gmf=1):
+    """N on the EN normal-stress design curve; None below the cut-off."""
+    c, d, l = en_normal(cat, gmf)
+    rng = D(rng)
+    if rng >= d:
+        return D(2e6) * (c / rng) ** 3
+    if rng >= l:
+        return D(5e6) * (d / rng) ** 5
+    return None
+
+
+def bisect(f, lo, hi):
+    """Root of an increasing f on [lo, hi] by plain bisection."""
+    for _ in range(200):
+        mid = (lo + hi) / 2
+        if f(mid) > 0:
+            hi = mid
+        else:
+            lo = mid
+    return lo
+
+
+def engine():
+    print("== src/assess/tests.rs")
+    # single_block_by_hand: ΔσC 100, γMf 1.35, 1e6 cycles of 60 MPa, 25 years
+    c, d, _ = en_normal(100, D("1.35"))
+    n = en_endurance(60, 100, D("1.35"))
+    dmg = D(1e6) / n
+    e2 = 60 * root(D(1e6) / D(2e6), 3)
+    p("single: ΔσC,d", c)
+    p("single: ΔσD,d", d)
+    p("single: N(60)", n)
+    p("single: D", dmg)
+    p("single: ΔσE,2 = 60·(1e6/2e6)^(1/3)", e2)
+    p("single: ΔσE,2/ΔσC,d", e2 / c)
+    p("single: D^(1/3)", root(dmg, 3))
+    p("single: life = 25/D", 25 / dmg)
+    p("single: reserve = D^(-1/3)", 1 / root(dmg, 3))
+    p("single: least ΔσC = 1.35·ΔσE,2", D("1.35") * e2)
+
+    # failing_detail_and_required_category: ΔσC 71, γMf 1.15, 1e7 cycles of 60 MPa
+    c, d, _ = en_normal(71, D("1.15"))
+    p("failing: ΔσC,d", c)
+    p("failing: ΔσD,d", d)
+    p("failing: D", D(1e7) / en_endurance(60, 71, D("1.15")))
+    c90, d90, _ = en_normal(90, D("1.15"))
+    p("failing: cat 90 ΔσD,d", d90)
+    p("failing: cat 90 D", D(1e7) / en_endurance(60, 90, D("1.15")))
+    p("failing: cat 100 ΔσD,d", en_normal(100, D("1.15"))[1])
+    p("failing: reserve = ΔσD,d/60", d / 60)
+
+    # constant_amplitude_below_limit_gives_no_damage: ΔσC 80, γMf 1.0, 50 MPa
+    _, d, _ = en_normal(80)
+    p("ca limit: ΔσD (80)", d)
+    p("ca limit: reserve = ΔσD/50", d / 50)
+
+    # cut_off_ignores_small_cycles_with_warning: ΔσC 100, γMf 1.0
+    _, _, l = en_normal(100)
+    p("cut-off: ΔσL (100)", l)
+    p("cut-off: D(80 MPa, 1e4)", D(1e4) / en_endurance(80, 100))
+
+    # size_effect_ks
+    ks = root(D(25) / 40, 5)
+    p("size: ks = (25/40)^0.2", ks)
+    p("size: 90·ks", 90 * ks)
+
+    # iiw_damage_ratio_and_gamma: FAT 90, γM 1.30, 1e6 cycles of 70 MPa
+    fd = D(90) / D("1.3")
+    knee = fd * root(D(2e6) / D(1e7), 3)
+    n = D(2e6) * (fd / 70) ** 3
+    dmg = D(1e6) / n
+    r6 = fd * root(D(2), 3)
+    p("iiw: FATd", fd)
+    p("iiw: knee at 1e7", knee)
+    p("iiw: N(70)", n)
+    p("iiw: D", dmg)
+    p("iiw: D/0.5", dmg / D("0.5"))
+    p("iiw: ΔσR,d(1e6) = FATd·2^(1/3)", r6)
+    p("iiw: 70/ΔσR,d(1e6)", 70 / r6)
+
+    # iiw_m22_tail_and_m5_variant: FAT 100, γM 1.0, 40 MPa
+    knee = 100 * root(D(2e6) / D(1e7), 3)
+    p("iiw tail: knee (100)", knee)
+    p("iiw tail: N(40), m = 22", D(1e7) * (knee / 40) ** 22)
+    p("iiw tail: N(40), m = 5", D(1e7) * (knee / 40) ** 5)
+
+    # en_interaction_eq_8_3
+    ds = D(1e6) / (D(2e6) * (D(100) / 80) ** 3)
+    dt = D(1e6) / (D(2e6) * (D(80) / 60) ** 5)
+    p("interaction: D_sigma", ds)
+    p("interaction: D_tau", dt)
+    p("interaction: sum", ds + dt)
+    p("interaction: D_sigma^(1/3)", root(ds, 3))
+    p("interaction: D_tau^(1/5)", root(dt, 5))
+    k = bisect(lambda k: ds * k**3 + dt * k**5 - 1, D(1), D(2))
+    p("interaction: k, D_s·k^3 + D_t·k^5 = 1", k)
+    p("interaction: life = 10/sum", 10 / (ds + dt))
+
+    # variable_amplitude_below_limit_still_damages: ΔσC 80, γMf 1.0
+    n50 = en_endurance(50, 80)
+    n45 = en_endurance(45, 80)
+    p("variable: N(50)", n50)
+    p("variable: N(45)", n45)
+    p("variable: 1e6/N(50)", D(1e6) / n50)
+    p("variable: 1e6/N(45)", D(1e6) / n45)
+    p("variable: D", D(1e6) / n50 + D(1e6) / n45)
+
+
+def curves():
+    print("== src/assess/curve.rs, src/report/plots/mod.rs, tests/plots.rs")
+    for cat in (160, 100, 90, 80, 71, 36):
+        _, d, l = en_normal(cat)
+        p(f"EN ΔσC {cat}: ΔσD", d)
+        p(f"EN ΔσC {cat}: ΔσL", l)
+    for cat in (100, 80):
+        p(f"EN ΔτC {cat}: ΔτL", cat * root(D(2) / 100, 5))
+    p("EN ΔσC 100: N(50)", en_endurance(50, 100))
+    p("EN ΔσC 100: range at 1e4", 100 * root(D(2e6) / D(1e4), 3))
+    p("IIW knee/FAT = (2e6/1e7)^(1/3)", root(D(2e6) / D(1e7), 3))
+    p("IIW FAT 90 knee", 90 * root(D(2e6) / D(1e7), 3))
+    p("IIW (1e7/1e9)^(1/22)", root(D(1e7) / D(1e9), 22))
+    for cat, g in ((100, "1.35"), (71, "1.35"), (90, "1.35"), (36, "1.35")):
+        c, d, l = en_normal(cat, D(g))
+        p(f"EN ΔσC {cat}/γMf {g}: ΔσC,d", c)
+        p(f"EN ΔσC {cat}/γMf {g}: ΔσD,d", d)
+        p(f"EN ΔσC {cat}/γMf {g}: ΔσL,d", l)
+
+
+def plots():
+    print("== tests/plots.rs fixtures (design range = range, γFf = 1.0)")
+
+    def one(name, rng, n, cat, gmf):
+        nn = en_endurance(rng, cat, gmf)
+        if nn is None:
+            p(f"{name}: {rng} MPa below the cut-off, D", 0)
+            return D(0)
+        p(f"{name}: N({rng})", nn)
+        p(f"{name}: D({rng}, {n})", D(n) / nn)
+        return D(n) / nn
+
+    one("labels", 80, 1e5, 100, 1)
+    one("labels", 30, 1e6, 100, 1)
+    one("gamma", 60, 2e5, 100, D("1.35"))
+    dmg = one("equivalent", 50, 4e5, 71, D("1.35"))
+    c, _, _ = en_normal(71, D("1.35"))
+    p("equivalent: γFf·ΔσE,2 = ΔσC,d·D^(1/3)", c * root(dmg, 3))
+    p("equivalent: same as 50·(4e5/2e6)^(1/3)", 50 * root(D(4e5) / D(2e6), 3))
+    p("equivalent: ΔσE,2/ΔσC,d = D^(1/3)", root(dmg, 3))
+    p("shear: ΔτL (80)", 80 * root(D(2) / 100, 5))
+    fk = 90 * root(D(2e6) / D(1e7), 3)
+    n = D(1e7) * (fk / 40) ** 22
+    p("iiw: N(40), m = 22 below the knee", n)
+    p("iiw: D(40, 3e6)", D(3e6) / n)
+    one("wide", 120, 1e3, 100, 1)
+    one("wide", 4, 1e10, 100, 1)
+    one("escape", 70, 2e5, 90, D("1.35"))
+
+
+def series():
+    print("== tests/series_cli.rs (detail category 56, γMf 1.35, 25 years)")
+    cat, gmf, years = 56, D("1.35"), 25
+    c, d, l = en_normal(cat, gmf)
+    p("series: ΔσC,d", c)
+    p("series: ΔσD,d", d)
+    p("series: ΔσL,d", l)
+    # ASTM E1049-85 example ×10 MPa as a repeating history: full cycles of 90, 70,
+    # 40 and 30 MPa per repetition (counted by hand in the test), 2000 repetitions a year
+    reps = D(2000) * years
+    ds = D(0)
+    for r in (90, 70, 40, 30):
+        nn = en_endurance(r, cat, gmf)
+        p(f"series: N({r})", nn)
+        ds += reps / nn
+    p("series: D of the record", ds)
+    db = D(0)
+    for r in (70, 45):
+        db += D(9000) * years / en_endurance(r, cat, gmf)
+    p("series: D of the blocks 70, 45 (9000/year)", db)
+    p("series: D of both", ds + db)
+    # golden count of PyPI rainflow 3.2.0, block_loading, half cycles, 2000 a year
+    path = os.path.join(HERE, "..", "data", "rainflow", "block_loading.cycles.csv")
+    dg = D(0)
+    with open(path, newline="") as f:
+        for row in csv.DictReader(f):
+            nn = en_endurance(D(row["range"]), cat, gmf)
+            if nn is not None:
+                dg += D(row["count"]) * reps / nn
+    p("series: D of the golden block_loading count", dg)
+
+
+def counts():
+    print("== tests/series_count.rs")
+    p("σ = E·ε = 210000·1000e-6", D(210000) * D(1000) / D(10) ** 6)
+
+
+if __name__ == "__main__":
+    engine()
+    curves()
+    plots()
+    series()
+    counts()
