@@ -222,6 +222,8 @@ pub struct DetailResult {
     pub material: String,
     pub fy_mpa: f64,
     pub thickness_mm: f64,
+    /// The detail's group (a girder, a bay, a member type), when given.
+    pub group: Option<String>,
     pub status: Status,
     /// Design life over fatigue life: the largest utilisation of the checks (pass when
     /// <= 1). For one stress component it is D/D_lim.

@@ -138,7 +138,7 @@ fn csv_output_and_output_file() {
     assert_eq!(st.status.code(), Some(1));
     let text = std::fs::read_to_string(&out).unwrap();
     assert_eq!(text.lines().count(), 10);
-    assert!(text.starts_with("id,location,status,utilisation"));
+    assert!(text.starts_with("id,location,group,detail,status,utilisation,governing_check"));
     // no temporary files left beside the output
     let names: Vec<_> = std::fs::read_dir(dir.path())
         .unwrap()

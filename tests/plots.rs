@@ -292,6 +292,7 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
         material: "S355".into(),
         fy_mpa: 355.0,
         thickness_mm: 12.0,
+        group: None,
         status,
         utilisation,
         governing_check: "normal".into(),

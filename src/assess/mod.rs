@@ -287,6 +287,7 @@ fn assess_detail(
         material: det.material.clone(),
         fy_mpa: fy,
         thickness_mm: det.thickness_mm,
+        group: det.group.clone(),
         status,
         utilisation: v.utilisation,
         governing_check: v.governing_check,

@@ -7,7 +7,9 @@ mod count;
 mod lint;
 mod new;
 pub mod output;
+pub mod progress;
 mod report;
+pub mod stream;
 
 use std::io::Write;
 use std::path::PathBuf;
@@ -19,7 +21,7 @@ use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_PASS};
 use crate::results::{Results, Status};
 pub use assess::AssessArgs;
 pub use count::{CountArgs, ResidueArg, UnitArg};
-pub use output::{csv_summary, fmt_life, table, write_atomic};
+pub use output::{fmt_life, table, write_atomic};
 pub use report::ReportArgs;
 
 #[derive(Parser, Debug)]

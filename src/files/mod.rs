@@ -92,6 +92,29 @@ pub fn hex(bytes: &[u8]) -> String {
     bytes.iter().map(|b| format!("{b:02x}")).collect()
 }
 
+/// Text as shown in a message: at most 60 characters, longer text cut with a mark and
+/// its length, control characters escaped so that nothing reaches the terminal raw.
+pub fn shown(s: &str) -> String {
+    let n = s.chars().count();
+    let cut: String = if n <= 60 {
+        s.to_string()
+    } else {
+        s.chars().take(57).collect()
+    };
+    let mut out = String::with_capacity(cut.len());
+    for c in cut.chars() {
+        if c.is_control() {
+            out.extend(c.escape_unicode());
+        } else {
+            out.push(c);
+        }
+    }
+    if n > 60 {
+        out.push_str(&format!("… ({n} characters)"));
+    }
+    out
+}
+
 /// SHA-256 and size of a file, read in pieces.
 pub fn file_sha256(path: &Path) -> std::io::Result<(String, u64)> {
     use std::io::Read;

@@ -23,7 +23,7 @@ use super::schema::*;
 use crate::catalogue::Component;
 use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::csvlines::{CsvLines, LineError, Row};
-use crate::files::suggest;
+use crate::files::{shown, suggest};
 use crate::results::SeriesFileInfo;
 
 /// A counted stress history from the histories table.
@@ -57,17 +57,6 @@ pub struct TableData {
     pub files: Vec<SeriesFileInfo>,
     /// Details without any stress or history row (left out of the assessment).
     pub unloaded: Vec<(String, u64)>,
-}
-
-/// Cell text as shown in a message: at most 60 characters.
-fn shown(s: &str) -> String {
-    let n = s.chars().count();
-    if n <= 60 {
-        s.to_string()
-    } else {
-        let t: String = s.chars().take(57).collect();
-        format!("{t}… ({n} characters)")
-    }
 }
 
 fn at(path: &Path, line: u64, col: usize) -> Location {
