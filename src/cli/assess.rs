@@ -1,12 +1,11 @@
 //! `seamlife assess`: results as a table, JSON or CSV.
 
-use std::io::Write;
 use std::path::PathBuf;
 
 use clap::Args;
 
 use super::exit_code_for;
-use super::output::{csv_summary, table, write_atomic};
+use super::output::{csv_summary, json_safe, print_err, print_out, print_text, table};
 use crate::catalogue::Library;
 use crate::error::Error;
 use crate::results::CAUTION_LINE;
@@ -26,27 +25,37 @@ pub struct AssessArgs {
     pub output: Option<PathBuf>,
 }
 
-pub(super) fn run(a: &AssessArgs, library: &Library) -> Result<i32, Error> {
-    let results = crate::run_project(&a.file, library)?;
+pub(super) fn run(
+    a: &AssessArgs,
+    library: &Library,
+    jc: Option<&std::path::Path>,
+) -> Result<i32, Error> {
+    let run = crate::run_project_checked(&a.file, library)?;
+    let inputs = super::run_inputs(&run, jc, None);
+    if let Some(path) = &a.output {
+        // Refuse a bad output before the work of formatting.
+        crate::files::write::check_target(path, &inputs)?;
+    }
+    super::print_notes(&run.notes);
+    let results = &run.results;
     let text = if a.json {
-        let mut s = serde_json::to_string_pretty(&results)
+        let mut s = serde_json::to_string_pretty(results)
             .map_err(|e| Error::Internal(format!("cannot serialise results: {e}")))?;
         s.push('\n');
-        s
+        json_safe(s)
     } else if a.csv {
-        csv_summary(&results)?
+        csv_summary(results)?
     } else {
-        table(&results)
+        table(results)
     };
     match &a.output {
-        Some(path) => write_atomic(path, text.as_bytes())?,
-        None => {
-            let mut out = std::io::stdout().lock();
-            let _ = out.write_all(text.as_bytes());
-        }
+        Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
+        None if a.json => print_out(text.as_bytes())?,
+        None if a.csv => super::output::print_data(text.as_bytes())?,
+        None => print_text(&text)?,
     }
     if a.json || a.csv || a.output.is_some() {
-        eprintln!("{CAUTION_LINE}");
+        print_err(&format!("{CAUTION_LINE}\n"));
     }
-    Ok(exit_code_for(&results))
+    Ok(exit_code_for(results))
 }

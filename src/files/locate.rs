@@ -173,6 +173,34 @@ impl MarkedEventReceiver for Locator<'_> {
     }
 }
 
+/// Line and column (both 1-based) where the `n`-th document (1-based) of a YAML stream
+/// starts, if there is one.
+pub fn document_start(text: &str, n: usize) -> Option<(usize, usize)> {
+    struct Docs {
+        n: usize,
+        seen: usize,
+        found: Option<(usize, usize)>,
+    }
+    impl MarkedEventReceiver for Docs {
+        fn on_event(&mut self, ev: Event, mark: Marker) {
+            if matches!(ev, Event::DocumentStart) {
+                self.seen += 1;
+                if self.seen == self.n && self.found.is_none() {
+                    self.found = Some((mark.line(), mark.col() + 1));
+                }
+            }
+        }
+    }
+    let mut d = Docs {
+        n,
+        seen: 0,
+        found: None,
+    };
+    let mut parser = Parser::new_from_str(text);
+    let _ = parser.load(&mut d, true);
+    d.found
+}
+
 /// Line and column (both 1-based) of each target path's value; `None` where the path
 /// is not in the document or the document does not parse.
 pub fn locate(text: &str, targets: &[YamlPath]) -> Vec<Option<(usize, usize)>> {

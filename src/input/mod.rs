@@ -12,6 +12,10 @@ pub use crate::files::locate::{self, YamlPath};
 pub use crate::files::{
     file_sha256, hex, read_text_limited, sha256_hex, suggest, yaml_error, MAX_INPUT_BYTES,
 };
+pub use check::{
+    FACTOR_RANGE, MAX_BINS, MAX_COUNT, MAX_DESIGN_LIFE_YEARS, MAX_HOURS_PER_YEAR, MAX_MODULUS_MPA,
+    MAX_STRESS_MPA, MAX_THICKNESS_MM, MIN_BIN_WIDTH_MPA,
+};
 pub use schema::*;
 
 /// A project file that parsed and passed every check.

@@ -3,7 +3,7 @@
 
 use std::collections::BTreeMap;
 
-use serde::{Deserialize, Serialize};
+use serde::{Deserialize, Deserializer, Serialize};
 
 /// The schema version this build reads.
 pub const SCHEMA_VERSION: u32 = 1;
@@ -23,13 +23,18 @@ pub struct ProjectFile {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct ProjectInfo {
+    #[serde(deserialize_with = "text_title")]
     pub title: String,
+    #[serde(deserialize_with = "text_reference")]
     pub reference: String,
+    #[serde(deserialize_with = "text_revision")]
     pub revision: String,
+    #[serde(deserialize_with = "text_prepared_by")]
     pub prepared_by: String,
     #[serde(default)]
     pub checked_by: Option<String>,
     /// ISO date, YYYY-MM-DD.
+    #[serde(deserialize_with = "text_date")]
     pub date: String,
     #[serde(default)]
     pub client: Option<String>,
@@ -45,8 +50,11 @@ pub struct ProjectInfo {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Revision {
+    #[serde(deserialize_with = "text_revision")]
     pub revision: String,
+    #[serde(deserialize_with = "text_date")]
     pub date: String,
+    #[serde(deserialize_with = "text_description")]
     pub description: String,
     #[serde(default)]
     pub by: Option<String>,
@@ -88,6 +96,7 @@ impl Consequence {
 #[serde(deny_unknown_fields)]
 pub struct Basis {
     /// Id of a curve family (a file in joint-classes/).
+    #[serde(deserialize_with = "text_family")]
     pub family: String,
     pub design_life_years: f64,
     pub strategy: Strategy,
@@ -114,6 +123,7 @@ pub struct Basis {
 #[serde(deny_unknown_fields)]
 pub struct Override {
     pub value: f64,
+    #[serde(deserialize_with = "text_reason")]
     pub reason: String,
 }
 
@@ -128,13 +138,16 @@ pub struct Material {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Detail {
+    #[serde(deserialize_with = "text_id")]
     pub id: String,
+    #[serde(deserialize_with = "text_location")]
     pub location: String,
     #[serde(default)]
     pub description: Option<String>,
     /// Key into the family's catalogue; implies categories and corrections.
     #[serde(default)]
     pub detail: Option<String>,
+    #[serde(deserialize_with = "text_material")]
     pub material: String,
     pub thickness_mm: f64,
     /// Toe-to-toe distance L for families whose effective thickness uses it.
@@ -164,6 +177,7 @@ pub struct ComponentInput {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct LoadEvent {
+    #[serde(deserialize_with = "text_event")]
     pub event: String,
     /// Occurrences of the event per year.
     #[serde(default)]
@@ -195,6 +209,7 @@ pub struct Block {
 #[serde(deny_unknown_fields)]
 pub struct SeriesInput {
     /// Path relative to the project file.
+    #[serde(deserialize_with = "text_file")]
     pub file: String,
     /// Column header name, or a 1-based column number.
     pub column: ColumnSelector,
@@ -233,11 +248,100 @@ fn yes() -> bool {
     true
 }
 
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum ColumnSelector {
     Index(usize),
     Name(String),
+}
+
+impl<'de> Deserialize<'de> for ColumnSelector {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl serde::de::Visitor<'_> for V {
+            type Value = ColumnSelector;
+
+            fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str("a header name, or a column number counted from 1")
+            }
+
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<ColumnSelector, E> {
+                usize::try_from(v)
+                    .map(ColumnSelector::Index)
+                    .map_err(|_| E::custom(format!("column number {v} is too large")))
+            }
+
+            fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<ColumnSelector, E> {
+                if v < 1 {
+                    Err(E::custom(format!(
+                        "column numbers start at 1, got {v}; give the header name or a number from 1"
+                    )))
+                } else {
+                    self.visit_u64(v as u64)
+                }
+            }
+
+            fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<ColumnSelector, E> {
+                Err(E::custom(format!(
+                    "column {v} is not a whole number; give the header name or a number from 1"
+                )))
+            }
+
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<ColumnSelector, E> {
+                Ok(ColumnSelector::Name(v.to_string()))
+            }
+
+            fn visit_bool<E: serde::de::Error>(self, v: bool) -> Result<ColumnSelector, E> {
+                Err(E::custom(format!(
+                    "column `{v}` is neither a header name nor a column number"
+                )))
+            }
+
+            fn visit_unit<E: serde::de::Error>(self) -> Result<ColumnSelector, E> {
+                Err(E::custom(
+                    "column is empty (null); give the header name or a number from 1",
+                ))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// A required text: YAML null (`~`, `null` or nothing) is refused instead of being
+/// read as the text "~"; a quoted "~" stays text. `key` names the field in the message
+/// (the files stage locates it).
+fn text_named<'de, D: Deserializer<'de>>(d: D, key: &str) -> Result<String, D::Error> {
+    match Option::<String>::deserialize(d)? {
+        Some(s) => Ok(s),
+        None => Err(serde::de::Error::custom(format!(
+            "`{key}` {}",
+            crate::files::yaml::NULL_TEXT
+        ))),
+    }
+}
+
+macro_rules! required_texts {
+    ($($f:ident => $key:literal),* $(,)?) => {
+        $(fn $f<'de, D: Deserializer<'de>>(d: D) -> Result<String, D::Error> {
+            text_named(d, $key)
+        })*
+    };
+}
+
+required_texts! {
+    text_title => "title",
+    text_reference => "reference",
+    text_revision => "revision",
+    text_prepared_by => "prepared_by",
+    text_date => "date",
+    text_description => "description",
+    text_family => "family",
+    text_reason => "reason",
+    text_id => "id",
+    text_location => "location",
+    text_material => "material",
+    text_event => "event",
+    text_file => "file",
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
