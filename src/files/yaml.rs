@@ -59,7 +59,7 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
             .and_then(parse_path)
             .unwrap_or_else(YamlPath::root)
             .key(key);
-        let location = match super::locate::locate(text, std::slice::from_ref(&at))[0] {
+        let location = match super::locate::locate_keys(text, std::slice::from_ref(&at))[0] {
             Some((l, c)) => Location::at(path, l, c),
             None => match e.location() {
                 Some(l) => Location::at(path, l.line(), l.column()),
