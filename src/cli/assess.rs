@@ -5,9 +5,10 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::exit_code_for;
-use super::output::{csv_summary, json_safe, print_err, print_out, print_text, table};
+use super::output::{csv_summary, print_err, print_text, table, write_json};
 use crate::catalogue::Library;
 use crate::error::Error;
+use crate::files::write::PendingFile;
 use crate::results::CAUTION_LINE;
 
 #[derive(Args, Debug)]
@@ -38,21 +39,30 @@ pub(super) fn run(
     }
     super::print_notes(&run.notes);
     let results = &run.results;
-    let text = if a.json {
-        let mut s = serde_json::to_string_pretty(results)
-            .map_err(|e| Error::Internal(format!("cannot serialise results: {e}")))?;
-        s.push('\n');
-        json_safe(s)
-    } else if a.csv {
-        csv_summary(results)?
+    if a.json {
+        // Streamed: the JSON of a large project is never held whole in memory.
+        match &a.output {
+            Some(path) => {
+                let mut f = PendingFile::new(path, &inputs, ".part")?;
+                write_json(f.file(), results).map_err(|source| Error::Output {
+                    path: path.clone(),
+                    source,
+                })?;
+                f.commit()?;
+            }
+            None => write_json(std::io::stdout().lock(), results).map_err(Error::Stdout)?,
+        }
     } else {
-        table(results)
-    };
-    match &a.output {
-        Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
-        None if a.json => print_out(text.as_bytes())?,
-        None if a.csv => super::output::print_data(text.as_bytes())?,
-        None => print_text(&text)?,
+        let text = if a.csv {
+            csv_summary(results)?
+        } else {
+            table(results)
+        };
+        match &a.output {
+            Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
+            None if a.csv => super::output::print_data(text.as_bytes())?,
+            None => print_text(&text)?,
+        }
     }
     if a.json || a.csv || a.output.is_some() {
         print_err(&format!("{CAUTION_LINE}\n"));

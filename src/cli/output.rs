@@ -42,22 +42,73 @@ pub fn print_err(text: &str) {
     let _ = err.flush();
 }
 
-/// JSON text with the characters that steer a terminal but that JSON lets through raw
-/// (DEL, C1 controls, bidirectional overrides) written as `\uXXXX` escapes: the same
-/// data, safe to show.
-pub fn json_safe(json: String) -> String {
-    if !json.chars().any(crate::files::text::is_steering) {
-        return json;
-    }
-    let mut out = String::with_capacity(json.len() + 16);
-    for c in json.chars() {
-        if crate::files::text::is_steering(c) {
-            out.push_str(&format!("\\u{:04x}", c as u32));
-        } else {
-            out.push(c);
+/// The results model as pretty JSON, streamed to `w` (never held whole in memory),
+/// with the characters that steer a terminal but that JSON lets through raw (DEL, C1
+/// controls, bidirectional overrides) written as `\\uXXXX` escapes: the same data,
+/// safe to show. A newline ends it.
+pub fn write_json<W: Write>(w: W, value: &impl serde::Serialize) -> std::io::Result<()> {
+    let mut w = std::io::BufWriter::with_capacity(1 << 16, w);
+    let mut ser = serde_json::Serializer::with_formatter(&mut w, SafePretty::default());
+    value.serialize(&mut ser).map_err(std::io::Error::other)?;
+    w.write_all(b"\n")?;
+    w.flush()
+}
+
+/// serde_json's pretty layout, with steering characters escaped inside strings.
+#[derive(Default)]
+struct SafePretty(serde_json::ser::PrettyFormatter<'static>);
+
+impl serde_json::ser::Formatter for SafePretty {
+    fn write_string_fragment<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        fragment: &str,
+    ) -> std::io::Result<()> {
+        let mut rest = fragment;
+        while let Some(i) = rest.find(crate::files::text::is_steering) {
+            w.write_all(&rest.as_bytes()[..i])?;
+            let c = rest[i..].chars().next().unwrap_or(' ');
+            write!(w, "\\u{:04x}", c as u32)?;
+            rest = &rest[i + c.len_utf8()..];
         }
+        w.write_all(rest.as_bytes())
     }
-    out
+
+    fn begin_array<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_array(w)
+    }
+    fn end_array<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array(w)
+    }
+    fn begin_array_value<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_array_value(w, first)
+    }
+    fn end_array_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array_value(w)
+    }
+    fn begin_object<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object(w)
+    }
+    fn end_object<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object(w)
+    }
+    fn begin_object_key<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_object_key(w, first)
+    }
+    fn begin_object_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object_value(w)
+    }
+    fn end_object_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object_value(w)
+    }
 }
 
 /// A number with three decimals for a table cell, scientific when huge.

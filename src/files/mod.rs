@@ -7,6 +7,7 @@ pub mod locate;
 pub mod text;
 pub mod write;
 pub mod yaml;
+pub mod yamlde;
 
 use std::fs::File;
 use std::io::Read;
@@ -16,7 +17,7 @@ use sha2::{Digest, Sha256};
 
 use crate::error::{InputError, InputErrorKind, Location};
 pub use text::{clip, escape_controls, short_num};
-pub use yaml::yaml_error;
+pub use yaml::{located_yaml_error, yaml_error};
 
 /// Project and family files larger than this are refused before reading.
 pub const MAX_INPUT_BYTES: u64 = 64 * 1024 * 1024;

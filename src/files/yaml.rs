@@ -35,6 +35,18 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
         Some(i) => raw[..i].to_string(),
         None => raw.clone(),
     };
+    let place = e.location().map(|l| (l.line(), l.column()));
+    located_yaml_error(path, text, msg, place)
+}
+
+/// Turn a YAML reading error (the message, with the document path as its prefix, and
+/// the 1-based line and column where it arose) into an input error with a hint.
+pub fn located_yaml_error(
+    path: &Path,
+    text: &str,
+    msg: String,
+    place: Option<(usize, usize)>,
+) -> InputError {
     if msg.contains("more than one document") {
         let location = match super::locate::document_start(text, 2) {
             Some((l, c)) => Location::at(path, l, c),
@@ -51,18 +63,18 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
         return control_error(path, text, offset);
     }
     if let Some(i) = msg.find(NULL_TEXT) {
-        // "details[0]: `location` is empty: ..." -> locate details[0].location
+        // "details[0].location: `location` is empty: ..." -> locate that key
         let head = &msg[..i];
         let key = backticked(head).last().copied().unwrap_or("");
         let prefix = head.split(": ").next().filter(|p| !p.starts_with('`'));
-        let at = prefix
-            .and_then(parse_path)
-            .unwrap_or_else(YamlPath::root)
-            .key(key);
+        let mut at = prefix.and_then(parse_path).unwrap_or_else(YamlPath::root);
+        if at.0.last() != Some(&super::locate::Step::Key(key.to_string())) {
+            at = at.key(key);
+        }
         let location = match super::locate::locate_keys(text, std::slice::from_ref(&at))[0] {
             Some((l, c)) => Location::at(path, l, c),
-            None => match e.location() {
-                Some(l) => Location::at(path, l.line(), l.column()),
+            None => match place {
+                Some((l, c)) => Location::at(path, l, c),
                 None => Location::file(path),
             },
         };
@@ -75,8 +87,8 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
             "YAML reads `~`, `null` or nothing as no value: write the {key}, or quote it (\"~\") if a tilde is meant"
         ));
     }
-    let location = match e.location() {
-        Some(l) => Location::at(path, l.line(), l.column()),
+    let location = match place {
+        Some((l, c)) => Location::at(path, l, c),
         None => Location::file(path),
     };
     if let (Some(l), Some(c)) = (location.line, location.column) {
@@ -84,7 +96,7 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
             return InputError::new(
                 InputErrorKind::WrongType,
                 location,
-                format!("`{token}` is {base} number; numbers are written in plain decimal here"),
+                super::yamlde::non_decimal_message(&token, base),
             )
             .hint("write the value in decimal, e.g. `16` or `2.5e6` (units are in the key name)");
         }
@@ -94,6 +106,18 @@ pub fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> InputError {
     let mut err = InputError::new(kind, location, msg);
     err.hint = hint;
     err
+}
+
+/// The first control character that YAML text may not hold (C0 other than tab, line
+/// feed and carriage return, and DEL), as an input error with its line and column.
+pub fn check_controls(path: &Path, text: &str) -> Result<(), InputError> {
+    match text
+        .bytes()
+        .position(|b| (b < 0x20 && b != b'\t' && b != b'\n' && b != b'\r') || b == 0x7f)
+    {
+        Some(i) => Err(control_error(path, text, i)),
+        None => Ok(()),
+    }
 }
 
 /// The byte offset of "control characters are not allowed at position N".
@@ -144,18 +168,8 @@ fn non_decimal_at(text: &str, line: usize, column: usize) -> Option<(String, &'s
         .chars()
         .take_while(|c| !matches!(c, ',' | '}' | ']' | '#' | ' ' | '\t'))
         .collect();
-    let digits = token.trim_start_matches(['+', '-']);
-    let base = match digits.get(..2) {
-        Some("0x") | Some("0X") => "a hexadecimal",
-        Some("0o") | Some("0O") => "an octal",
-        Some("0b") | Some("0B") => "a binary",
-        _ => return None,
-    };
-    (digits.len() > 2
-        && digits[2..]
-            .chars()
-            .all(|c| c.is_ascii_hexdigit() || c == '_'))
-    .then_some((token, base))
+    let (name, _) = super::yamlde::non_decimal(&token)?;
+    Some((token, name))
 }
 
 /// "unknown field `x`, expected one of ..." -> "unknown key `x`"; the list goes to the hint.

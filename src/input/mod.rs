@@ -46,7 +46,12 @@ pub fn parse_project(path: &Path, text: String, library: &Library) -> Result<Pro
         .hint("run `seamlife new DIR` for a starter project")
         .into());
     }
-    let file: ProjectFile = serde_yaml::from_str(&text).map_err(|e| yaml_error(path, &text, e))?;
+    // Read as a stream of events: a large project is never held as a tree (serde_yaml
+    // keeps every event of the document in memory, about 20 bytes for each byte).
+    crate::files::yaml::check_controls(path, &text)?;
+    let mut file: ProjectFile = crate::files::yamlde::from_str(&text)
+        .map_err(|e| crate::files::located_yaml_error(path, &text, e.to_string(), e.place))?;
+    file.shrink();
     let problems = check::check(&file, library);
     if !problems.is_empty() {
         let targets: Vec<YamlPath> = problems.iter().map(|p| p.path.clone()).collect();

@@ -5,6 +5,26 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Deserializer, Serialize};
 
+impl ProjectFile {
+    /// Give back the spare capacity of every list (a list read from YAML grows by
+    /// doubling; a project of 100 000 details would keep about a third of its memory
+    /// unused).
+    pub fn shrink(&mut self) {
+        self.project.revisions.shrink_to_fit();
+        self.details.shrink_to_fit();
+        for d in &mut self.details {
+            for c in [&mut d.normal, &mut d.shear].into_iter().flatten() {
+                c.loading.shrink_to_fit();
+                for ev in &mut c.loading {
+                    if let Some(b) = &mut ev.blocks {
+                        b.shrink_to_fit();
+                    }
+                }
+            }
+        }
+    }
+}
+
 /// The schema version this build reads.
 pub const SCHEMA_VERSION: u32 = 1;
 
@@ -185,9 +205,10 @@ pub struct LoadEvent {
     /// Stress blocks of one occurrence.
     #[serde(default)]
     pub blocks: Option<Vec<Block>>,
-    /// A measured or simulated stress history to be counted.
+    /// A measured or simulated stress history to be counted (boxed: most events have
+    /// blocks, and an inline series would triple the size of every event).
     #[serde(default)]
-    pub series: Option<SeriesInput>,
+    pub series: Option<Box<SeriesInput>>,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
