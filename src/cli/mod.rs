@@ -26,7 +26,7 @@ pub use report::ReportArgs;
     name = "seamlife",
     version,
     about = "Fatigue assessment of welded steel details by the nominal-stress (detail category) method",
-    after_help = "Exit codes: 0 all details pass, 1 some detail fails or lies outside the method, 2 bad input, 3 internal error or missing tool.\n\nThe governing code, the project specification and review by a licensed/chartered engineer prevail over this tool's output."
+    after_help = "Exit codes: 0 all details pass, 1 some detail fails or lies outside the method, 2 bad input, 3 internal error, missing tool or unwritable standard output, 130/143 stopped by SIGINT/SIGTERM.\n\nThe governing code, the project specification and review by a licensed/chartered engineer prevail over this tool's output."
 )]
 pub struct Cli {
     /// Folder of curve-family files that replace or add to the built-in families.
