@@ -270,6 +270,17 @@ fn typst_that_never_ends_is_stopped_at_the_timeout() {
 
 #[test]
 fn sigterm_during_typesetting_stops_typst_and_removes_temporaries() {
+    // 128 + 15 (SIGTERM), as a shell reports a run ended by the signal
+    interrupt_during_typesetting("-TERM", 143, "SIGTERM");
+}
+
+#[test]
+fn sigint_during_typesetting_stops_typst_and_removes_temporaries() {
+    // 128 + 2 (SIGINT)
+    interrupt_during_typesetting("-INT", 130, "SIGINT");
+}
+
+fn interrupt_during_typesetting(flag: &str, want: i32, name: &str) {
     let dir = workdir();
     let d = dir.path();
     let tmp = d.join("tmp");
@@ -308,16 +319,15 @@ fn sigterm_during_typesetting_stops_typst_and_removes_temporaries() {
         .parse()
         .unwrap();
     let st = std::process::Command::new("kill")
-        .arg("-TERM")
+        .arg(flag)
         .arg(child.id().to_string())
         .status()
         .unwrap();
     assert!(st.success());
     let out = child.wait_with_output().unwrap();
     let err = String::from_utf8_lossy(&out.stderr);
-    // 128 + 15 (SIGTERM), as a shell reports a run ended by the signal
-    assert_eq!(out.status.code(), Some(143), "{err}");
-    assert!(err.contains("interrupted by SIGTERM"), "{err}");
+    assert_eq!(out.status.code(), Some(want), "{err}");
+    assert!(err.contains(&format!("interrupted by {name}")), "{err}");
     // typst is gone
     let alive = std::path::Path::new(&format!("/proc/{typst_pid}")).exists()
         && !std::fs::read_to_string(format!("/proc/{typst_pid}/stat"))

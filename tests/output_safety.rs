@@ -188,3 +188,38 @@ fn written_files_get_ordinary_permissions_under_the_umask() {
     // no temporary file left anywhere
     assert_no_temporaries(dir.path());
 }
+
+#[test]
+fn figures_of_overflowed_results_are_drawn_in_bounded_time() {
+    // The input check refuses such values; this checks the second line of defence:
+    // the figure code itself ends on results whose numbers overflowed.
+    let library = seamlife::catalogue::Library::load(None).unwrap();
+    let mut r = seamlife::run_project(&demo(), &library).unwrap();
+    let years = r.basis.design_life_years;
+    let t = std::time::Instant::now();
+    for d in &mut r.details {
+        d.utilisation = 1.7e308;
+        for c in &mut d.components {
+            for b in &mut c.blocks {
+                b.range_mpa = 1.7e308;
+                b.effective_range_mpa = 1.7e308;
+                b.design_range_mpa = 1.7e308;
+                b.cycles_design_life = 1e308;
+            }
+            c.equivalent_range_mpa = 1.7e308;
+            c.design_equivalent_range_mpa = 1.7e308;
+            c.max_range_mpa = 1.7e308;
+            let svg = seamlife::report::plots::sn_diagram(c, years);
+            assert!(svg.starts_with("<svg"), "{}", &svg[..svg.len().min(80)]);
+            // no axis grew into millions of ticks
+            assert!(svg.len() < 2_000_000, "{} bytes", svg.len());
+            for rec in &c.counted {
+                let h = seamlife::report::plots::histogram(rec);
+                assert!(h.len() < 2_000_000);
+            }
+        }
+    }
+    let u = seamlife::report::plots::utilisation_chart(&r.details);
+    assert!(u.len() < 2_000_000);
+    assert!(t.elapsed() < std::time::Duration::from_secs(120));
+}
