@@ -10,8 +10,12 @@ pub const EXIT_PASS: i32 = 0;
 pub const EXIT_FAIL: i32 = 1;
 /// Exit code: the input could not be used.
 pub const EXIT_BAD_INPUT: i32 = 2;
-/// Exit code: internal error or a missing external tool.
+/// Exit code: internal error, a missing external tool, or standard output that cannot
+/// be written (closed pipe, full disk).
 pub const EXIT_INTERNAL: i32 = 3;
+/// Exit code base for a run stopped by a signal: 128 + the signal number (130 for
+/// SIGINT, 143 for SIGTERM), as shells report it.
+pub const EXIT_SIGNAL_BASE: i32 = 128;
 
 /// A place in an input file. Line and column are 1-based.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -72,6 +76,12 @@ pub enum InputErrorKind {
     UndefinedMaterial,
     Series,
     PathOutsideProject,
+    /// An output path that must not be written: an input, a folder, a disk device.
+    OutputTarget,
+    /// A value beyond the bounds of the method or of physics.
+    OutOfRange,
+    /// A text longer than the report can show.
+    TooLong,
 }
 
 /// A problem with a project file, a family file or a series file.
@@ -124,9 +134,28 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
+    /// typst failed on the built-in templates: a fault of seamlife, not of the input.
+    #[error("{message}")]
+    Typesetting { message: String, hint: String },
+    /// Standard output could not be written (closed pipe, full disk, closed descriptor).
+    #[error("cannot write to standard output: {0}")]
+    Stdout(#[source] std::io::Error),
+    /// The run was stopped by a signal; temporary files were removed.
+    #[error("interrupted by {}; no output was written and temporary files were removed", signal_name(*.0))]
+    Interrupted(i32),
     /// A bug: an invariant of the program did not hold.
     #[error("internal error: {0}")]
     Internal(String),
+}
+
+/// SIGINT, SIGTERM or "signal N".
+pub fn signal_name(sig: i32) -> String {
+    match sig {
+        2 => "SIGINT".into(),
+        15 => "SIGTERM".into(),
+        1 => "SIGHUP".into(),
+        n => format!("signal {n}"),
+    }
 }
 
 impl Error {
@@ -135,7 +164,11 @@ impl Error {
             Error::Input(_) | Error::Inputs(_) => EXIT_BAD_INPUT,
             Error::Report { .. } => EXIT_BAD_INPUT,
             Error::Output { .. } => EXIT_BAD_INPUT,
-            Error::Tool { .. } | Error::Internal(_) => EXIT_INTERNAL,
+            Error::Tool { .. }
+            | Error::Internal(_)
+            | Error::Typesetting { .. }
+            | Error::Stdout(_) => EXIT_INTERNAL,
+            Error::Interrupted(sig) => EXIT_SIGNAL_BASE + sig,
         }
     }
 
@@ -146,6 +179,11 @@ impl Error {
             Error::Tool { hint, .. } => Some(hint),
             Error::Report { hint, .. } => hint.as_deref(),
             Error::Output { .. } => Some("check that the folder exists and is writable"),
+            Error::Typesetting { hint, .. } => Some(hint),
+            Error::Stdout(_) => Some(
+                "the program reading the output stopped, or the disk is full; use -o FILE to write to a file",
+            ),
+            Error::Interrupted(_) => None,
             Error::Internal(_) => Some("please report this with the project file attached"),
         }
     }

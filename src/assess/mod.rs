@@ -71,14 +71,22 @@ impl<'a> Engine<'a> {
     /// Assess detail `i` (its spectrum is made here and dropped after).
     pub fn assess_one(&self, i: usize) -> DetailResult {
         let hist = self.histories.detail(self.project, i);
-        assess_detail(
+        let mut d = assess_detail(
             &self.project.file,
             self.fam,
             &self.basis,
             self.interaction.as_ref(),
             &self.project.file.details[i],
             &hist,
-        )
+        );
+        // findings of the signal stage (e.g. a gate that removed every cycle)
+        for n in self.histories.notes.iter().filter(|n| n.detail == i) {
+            d.warnings.push(Warning {
+                code: n.code.into(),
+                message: format!("{} stress: {}", n.component, n.message),
+            });
+        }
+        d
     }
 
     /// Assess a range of details in parallel, in input order.

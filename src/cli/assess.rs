@@ -1,16 +1,18 @@
 //! `seamlife assess`: results as a table, the JSON results model, CSV rows or JSON
 //! Lines; for large projects the CSV and JSON Lines are written detail by detail.
 
-use std::io::Write;
+use std::io::{IsTerminal, Write};
 use std::path::PathBuf;
 
 use clap::Args;
 
 use super::exit_code_for;
-use super::output::{table, write_atomic};
-use super::stream::{write_details, StreamFormat};
+use super::output::{print_err, print_text, table, write_json};
+use super::stream::{write_details, StreamFormat, CHUNK_DETAILS};
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_FAIL, EXIT_PASS};
+use crate::files::text::one_line;
+use crate::files::write::PendingFile;
 use crate::results::CAUTION_LINE;
 
 #[derive(Args, Debug)]
@@ -72,37 +74,76 @@ pub fn shard_range(k: usize, n: usize, total: usize) -> std::ops::Range<usize> {
     at(k - 1)..at(k)
 }
 
-pub(super) fn run(a: &AssessArgs, library: &Library) -> Result<i32, Error> {
+pub(super) fn run(
+    a: &AssessArgs,
+    library: &Library,
+    jc: Option<&std::path::Path>,
+) -> Result<i32, Error> {
     let shard = a.shard.as_deref().map(parse_shard).transpose()?;
     let opts = crate::input::LoadOptions { strict: a.strict };
-    let project = crate::input::load_project_with(&a.file, library, opts)?;
-    for w in &project.warnings {
-        eprintln!("warning: {}", w.message);
+    let loaded = crate::load_checked(&a.file, library, opts)?;
+    let inputs = super::inputs_of(
+        &a.file,
+        loaded.series_paths(),
+        loaded.table_paths(),
+        jc,
+        None,
+    );
+    if let Some(path) = &a.output {
+        // Refuse a bad output before the work.
+        crate::files::write::check_target(path, &inputs)?;
+    }
+    for w in &loaded.project.warnings {
+        print_err(&format!("warning: {}\n", one_line(&w.message)));
     }
     let family = library
-        .get(&project.file.basis.family)
+        .get(&loaded.project.file.basis.family)
         .ok_or_else(|| Error::Internal("family vanished after the check".into()))?;
-    let histories = crate::histories::build(&project)?;
-    let engine = crate::assess::Engine::new(&project, family, &histories);
+    let engine = crate::assess::Engine::new(&loaded.project, family, &loaded.histories);
     let total = engine.len();
     let range = match shard {
         Some((k, n)) => shard_range(k, n, total),
         None => 0..total,
     };
+    let progress = super::progress::Progress::new(range.len() as u64, "assessing details", a.quiet);
     if a.csv || a.jsonl {
         let format = if a.csv {
             StreamFormat::Csv
         } else {
             StreamFormat::JsonLines
         };
-        let progress =
-            super::progress::Progress::new(range.len() as u64, "assessing details", a.quiet);
-        let summary = write_details(&engine, range, format, a.output.as_deref(), &mut |done| {
-            progress.set(done as u64)
-        })?;
+        let mut tick = |done: usize| progress.set(done as u64);
+        let summary = match &a.output {
+            Some(path) => {
+                let mut f = PendingFile::new(path, &inputs, ".part")?;
+                let err = |source| Error::Output {
+                    path: path.clone(),
+                    source,
+                };
+                let mut w = std::io::BufWriter::with_capacity(1 << 20, f.file());
+                let s = write_details(&engine, range, format, &mut w, false, &err, &mut tick)?;
+                drop(w);
+                f.commit()?;
+                s
+            }
+            None => {
+                let stdout = std::io::stdout();
+                let escape = a.csv && stdout.is_terminal();
+                let mut w = std::io::BufWriter::with_capacity(1 << 20, stdout.lock());
+                write_details(
+                    &engine,
+                    range,
+                    format,
+                    &mut w,
+                    escape,
+                    &Error::Stdout,
+                    &mut tick,
+                )?
+            }
+        };
         progress.finish();
-        eprintln!(
-            "{} details: {} pass, {} fail, {} outside the method{}",
+        print_err(&format!(
+            "{} details: {} pass, {} fail, {} outside the method{}\n{CAUTION_LINE}\n",
             summary.details,
             summary.passed,
             summary.failed,
@@ -112,23 +153,21 @@ pub(super) fn run(a: &AssessArgs, library: &Library) -> Result<i32, Error> {
                 .as_ref()
                 .map(|g| format!(
                     "; governing {} at utilisation {:.3}",
-                    crate::files::shown(g),
+                    one_line(g),
                     summary.max_utilisation
                 ))
                 .unwrap_or_default()
-        );
-        eprintln!("{CAUTION_LINE}");
+        ));
         return Ok(if summary.passed == summary.details {
             EXIT_PASS
         } else {
             EXIT_FAIL
         });
     }
-    let progress = super::progress::Progress::new(range.len() as u64, "assessing details", a.quiet);
     let mut details = Vec::with_capacity(range.len());
     let mut start = range.start;
     while start < range.end {
-        let end = (start + super::stream::CHUNK_DETAILS).min(range.end);
+        let end = (start + CHUNK_DETAILS).min(range.end);
         details.extend(engine.assess_range(start..end));
         progress.set((end - range.start) as u64);
         start = end;
@@ -143,23 +182,29 @@ pub(super) fn run(a: &AssessArgs, library: &Library) -> Result<i32, Error> {
             total_details: total,
         });
     }
-    let text = if a.json {
-        let mut s = serde_json::to_string_pretty(&results)
-            .map_err(|e| Error::Internal(format!("cannot serialise results: {e}")))?;
-        s.push('\n');
-        s
+    if a.json {
+        // Streamed: the JSON of a large project is never held whole in memory.
+        match &a.output {
+            Some(path) => {
+                let mut f = PendingFile::new(path, &inputs, ".part")?;
+                write_json(f.file(), &results).map_err(|source| Error::Output {
+                    path: path.clone(),
+                    source,
+                })?;
+                f.commit()?;
+            }
+            None => write_json(std::io::stdout().lock(), &results).map_err(Error::Stdout)?,
+        }
     } else {
-        table(&results)
-    };
-    match &a.output {
-        Some(path) => write_atomic(path, text.as_bytes())?,
-        None => {
-            let mut out = std::io::stdout().lock();
-            let _ = out.write_all(text.as_bytes());
+        let text = table(&results);
+        match &a.output {
+            Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
+            None => print_text(&text)?,
         }
     }
     if a.json || a.output.is_some() {
-        eprintln!("{CAUTION_LINE}");
+        let _ = std::io::stderr().flush();
+        print_err(&format!("{CAUTION_LINE}\n"));
     }
     Ok(exit_code_for(&results))
 }

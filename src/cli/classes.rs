@@ -4,6 +4,7 @@ use std::path::Path;
 
 use crate::catalogue::{Component, Family, Library};
 use crate::error::{Error, EXIT_PASS};
+use crate::files::short_num;
 use crate::results::CAUTION_LINE;
 
 pub(super) fn run(family: Option<&str>, library: &Library) -> Result<i32, Error> {
@@ -44,7 +45,7 @@ pub(super) fn run(family: Option<&str>, library: &Library) -> Result<i32, Error>
     out.push('\n');
     out.push_str(CAUTION_LINE);
     out.push('\n');
-    print!("{out}");
+    super::output::print_text(&out)?;
     Ok(EXIT_PASS)
 }
 
@@ -63,7 +64,7 @@ fn family_listing(f: &Family, out: &mut String) {
             f.reference_cycles,
             def.categories_mpa
                 .iter()
-                .map(|x| format!("{x}"))
+                .map(|x| short_num(*x))
                 .collect::<Vec<_>>()
                 .join(", ")
         ));
@@ -96,7 +97,7 @@ fn family_listing(f: &Family, out: &mut String) {
         "key", "normal", "shear", "n"
     ));
     for e in &f.catalogue {
-        let o = |v: Option<f64>| v.map(|x| format!("{x}")).unwrap_or_else(|| "-".into());
+        let o = |v: Option<f64>| v.map(short_num).unwrap_or_else(|| "-".into());
         out.push_str(&format!(
             "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]{}\n",
             e.key,

@@ -5,13 +5,17 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use super::output::write_atomic;
+use super::output::{print_data, print_err};
 use crate::error::{Error, InputError, InputErrorKind, Location, EXIT_PASS};
+use crate::files::short_num;
+use crate::files::text::data_num;
+use crate::files::write::{check_target, FileId, Inputs, PendingFile};
 use crate::histories::rainflow::ResidueMode;
 use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
 use crate::histories::spectrum::{BinRule, SpectrumSpec};
 use crate::histories::{counted_record, series_hint, RecordLabels, DEFAULT_SERIES_BINS};
 use crate::input::SeriesUnitInput;
+use crate::input::{MAX_BINS, MAX_MODULUS_MPA, MAX_STRESS_MPA, MIN_BIN_WIDTH_MPA};
 use crate::results::CountedRecord;
 
 #[derive(clap::ValueEnum, Clone, Copy, Debug)]
@@ -77,21 +81,63 @@ pub struct CountArgs {
 
 pub(super) fn run(a: &CountArgs) -> Result<i32, Error> {
     let (spec, opts) = count_setup(a)?;
-    let rec = count_record(a, &spec, &opts)?;
-    let csv = spectrum_csv(&rec)?;
-    if let Some(p) = &a.svg {
-        write_atomic(p, crate::report::plots::histogram(&rec).as_bytes())?;
-    }
-    if let Some(p) = &a.matrix_svg {
-        write_atomic(p, crate::report::plots::matrix_heatmap(&rec).as_bytes())?;
-    }
-    match &a.output {
-        Some(p) => write_atomic(p, &csv)?,
-        None => {
-            let _ = std::io::stdout().lock().write_all(&csv);
+    let mut inputs = Inputs::new();
+    inputs.add(&a.file, "the series file being counted");
+    // Every output is checked before the count, and none may be another.
+    let outs: Vec<&PathBuf> = [&a.output, &a.svg, &a.matrix_svg]
+        .into_iter()
+        .flatten()
+        .collect();
+    for (i, p) in outs.iter().enumerate() {
+        check_target(p, &inputs)?;
+        let same = |q: &&PathBuf| {
+            *q == *p || matches!((FileId::of(q), FileId::of(p)), (Some(x), Some(y)) if x == y)
+        };
+        if outs[..i].iter().any(same) {
+            return Err(bad_arg(
+                a,
+                format!("{} is named for two outputs", p.display()),
+                "give -o, --svg and --matrix-svg different file names",
+            ));
         }
     }
-    eprintln!("{}", summary_line(a, &rec));
+    let rec = count_record(a, &spec, &opts)?;
+    let csv = spectrum_csv(&rec)?;
+    let mut pending = Vec::new();
+    for (p, bytes) in [
+        (
+            &a.svg,
+            a.svg
+                .as_ref()
+                .map(|_| crate::report::plots::histogram(&rec).into_bytes()),
+        ),
+        (
+            &a.matrix_svg,
+            a.matrix_svg
+                .as_ref()
+                .map(|_| crate::report::plots::matrix_heatmap(&rec).into_bytes()),
+        ),
+        (&a.output, a.output.as_ref().map(|_| csv.clone())),
+    ] {
+        if let (Some(p), Some(bytes)) = (p, bytes) {
+            let mut f = PendingFile::new(p, &inputs, ".part")?;
+            f.file().write_all(&bytes).map_err(|source| Error::Output {
+                path: p.clone(),
+                source,
+            })?;
+            pending.push(f);
+        }
+    }
+    if a.output.is_none() {
+        print_data(&csv)?;
+    }
+    for f in pending {
+        f.commit()?;
+    }
+    if let Some(w) = crate::histories::gate_note(&rec) {
+        print_err(&format!("warning: {w}\n"));
+    }
+    print_err(&format!("{}\n", summary_line(a, &rec)));
     Ok(EXIT_PASS)
 }
 
@@ -105,13 +151,16 @@ fn bad_arg(a: &CountArgs, msg: String, hint: &str) -> Error {
 fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions), Error> {
     let unit = match (a.unit, a.modulus_mpa) {
         (UnitArg::Mpa, _) => SeriesUnit::Mpa,
-        (UnitArg::Microstrain, Some(e)) if e.is_finite() && e > 0.0 => {
+        (UnitArg::Microstrain, Some(e)) if e.is_finite() && e > 0.0 && e <= MAX_MODULUS_MPA => {
             SeriesUnit::Microstrain { modulus_mpa: e }
         }
         (UnitArg::Microstrain, _) => {
             return Err(bad_arg(
                 a,
-                "a strain record needs a positive --modulus-mpa".into(),
+                format!(
+                    "a strain record needs a positive --modulus-mpa of at most {} MPa",
+                    short_num(MAX_MODULUS_MPA)
+                ),
                 "e.g. --modulus-mpa 210000 for steel",
             ))
         }
@@ -119,16 +168,46 @@ fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions), Error> {
     if !(a.scale.is_finite() && a.scale > 0.0) {
         return Err(bad_arg(
             a,
-            format!("--scale must be positive, got {}", a.scale),
+            format!("--scale must be positive, got {}", short_num(a.scale)),
             "give a positive factor",
         ));
     }
-    if !(a.gate_mpa.is_finite() && a.gate_mpa >= 0.0) {
+    if !(a.gate_mpa.is_finite() && (0.0..=2.0 * MAX_STRESS_MPA).contains(&a.gate_mpa)) {
         return Err(bad_arg(
             a,
-            format!("--gate-mpa must be zero or positive, got {}", a.gate_mpa),
+            format!(
+                "--gate-mpa must be from 0 to {} MPa, got {}",
+                short_num(2.0 * MAX_STRESS_MPA),
+                short_num(a.gate_mpa)
+            ),
             "give 0 for no gate",
         ));
+    }
+    if let Some(w) = a.bin_width_mpa {
+        if !(w.is_finite() && (MIN_BIN_WIDTH_MPA..=2.0 * MAX_STRESS_MPA).contains(&w)) {
+            return Err(bad_arg(
+                a,
+                format!(
+                    "--bin-width-mpa must be from {} to {} MPa, got {}",
+                    short_num(MIN_BIN_WIDTH_MPA),
+                    short_num(2.0 * MAX_STRESS_MPA),
+                    short_num(w)
+                ),
+                "strain gauges resolve about 0.2 MPa; finer bins carry no information",
+            ));
+        }
+    }
+    for (flag, v) in [("--bins", a.bins), ("--mean-bins", Some(a.mean_bins))] {
+        if v.is_some_and(|n| n > MAX_BINS as usize) {
+            return Err(bad_arg(
+                a,
+                format!(
+                    "{flag} is {}; at most {MAX_BINS} are accepted",
+                    v.unwrap_or(0)
+                ),
+                "a figure cannot show more bins than that",
+            ));
+        }
     }
     let column = match a.column.parse::<usize>() {
         Ok(0) => {
@@ -226,13 +305,13 @@ fn spectrum_csv(rec: &CountedRecord) -> Result<Vec<u8>, Error> {
     .map_err(e)?;
     for c in &rec.matrix {
         w.write_record([
-            format!("{}", c.max_range_mpa),
-            format!("{}", c.mean_mpa),
-            format!("{}", c.cycles),
-            format!("{}", c.range_lo_mpa),
-            format!("{}", c.range_hi_mpa),
-            format!("{}", c.mean_lo_mpa),
-            format!("{}", c.mean_hi_mpa),
+            data_num(c.max_range_mpa),
+            data_num(c.mean_mpa),
+            data_num(c.cycles),
+            data_num(c.range_lo_mpa),
+            data_num(c.range_hi_mpa),
+            data_num(c.mean_lo_mpa),
+            data_num(c.mean_hi_mpa),
         ])
         .map_err(e)?;
     }
@@ -250,9 +329,9 @@ fn summary_line(a: &CountArgs, rec: &CountedRecord) -> String {
         rec.full_cycles,
         rec.half_cycles,
         rec.residue,
-        rec.gate_mpa,
-        rec.bin_width_mpa,
-        rec.mean_bin_width_mpa,
+        short_num(rec.gate_mpa),
+        short_num(rec.bin_width_mpa),
+        short_num(rec.mean_bin_width_mpa),
         if rec.constant { "; the signal is constant: no cycles, no damage" } else { "" }
     )
 }

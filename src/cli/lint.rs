@@ -1,18 +1,29 @@
-//! `seamlife lint`: check a project file without assessing it.
+//! `seamlife lint`: check a project file without assessing it. Every check that
+//! `assess` makes before the engine runs is made here too: the schema and values, the
+//! family, and the series (their paths and every cell, by counting them).
 
 use std::path::Path;
 
+use super::output::print_text;
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_PASS};
 
 pub(super) fn run(file: &Path, library: &Library) -> Result<i32, Error> {
     let project = crate::input::load_project(file, library)?;
-    println!(
-        "ok: {} — {} details, family {}, schema version {}",
+    let histories = crate::histories::build(&project)?;
+    super::print_notes(&histories.notes);
+    let series = histories.series_files.len();
+    print_text(&format!(
+        "ok: {} — {} details, family {}, schema version {}{}\n",
         file.display(),
         project.file.details.len(),
         project.file.basis.family,
-        project.file.seamlife
-    );
+        project.file.seamlife,
+        match series {
+            0 => String::new(),
+            1 => ", 1 series file read and counted".to_string(),
+            n => format!(", {n} series files read and counted"),
+        }
+    ))?;
     Ok(EXIT_PASS)
 }

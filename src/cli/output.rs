@@ -1,37 +1,130 @@
 //! Output writers shared by the commands: atomic files, the results table, CSV rows.
 
 use std::io::Write;
-use std::path::{Path, PathBuf};
 
 use crate::error::Error;
+use crate::files::text::one_line;
+use crate::files::{escape_controls, short_num};
 use crate::results::{Results, CAUTION_LINE};
 
-/// Write a file whole or not at all: a temporary file in the same folder, renamed.
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Error> {
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let out_err = |source| Error::Output {
-        path: path.to_path_buf(),
-        source,
-    };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".seamlife-")
-        .suffix(".part")
-        .tempfile_in(&dir)
-        .map_err(out_err)?;
-    tmp.write_all(bytes).map_err(out_err)?;
-    tmp.as_file().sync_all().map_err(out_err)?;
-    tmp.persist(path).map_err(|e| out_err(e.error))?;
-    Ok(())
+pub use crate::files::write::{write_atomic, write_new, write_output, Inputs};
+
+/// Write to standard output and flush, reporting any failure (a pipe whose reader has
+/// gone, a full disk) instead of losing the output silently.
+pub fn print_out(bytes: &[u8]) -> Result<(), Error> {
+    let mut out = std::io::stdout().lock();
+    out.write_all(bytes)
+        .and_then(|_| out.flush())
+        .map_err(Error::Stdout)
+}
+
+/// Write text for the terminal to standard output, control characters made visible.
+pub fn print_text(text: &str) -> Result<(), Error> {
+    print_out(escape_controls(text).as_bytes())
+}
+
+/// Write data (CSV rows) to standard output: as it is to a file or a pipe, with control
+/// characters made visible when standard output is a terminal.
+pub fn print_data(bytes: &[u8]) -> Result<(), Error> {
+    use std::io::IsTerminal;
+    if std::io::stdout().is_terminal() {
+        print_text(&String::from_utf8_lossy(bytes))
+    } else {
+        print_out(bytes)
+    }
+}
+
+/// Write a message to standard error, control characters made visible. Failures are
+/// ignored: there is nowhere left to report them.
+pub fn print_err(text: &str) {
+    let mut err = std::io::stderr().lock();
+    let _ = err.write_all(escape_controls(text).as_bytes());
+    let _ = err.flush();
+}
+
+/// The results model as pretty JSON, streamed to `w` (never held whole in memory),
+/// with the characters that steer a terminal but that JSON lets through raw (DEL, C1
+/// controls, bidirectional overrides) written as `\\uXXXX` escapes: the same data,
+/// safe to show. A newline ends it.
+pub fn write_json<W: Write>(w: W, value: &impl serde::Serialize) -> std::io::Result<()> {
+    let mut w = std::io::BufWriter::with_capacity(1 << 16, w);
+    let mut ser = serde_json::Serializer::with_formatter(&mut w, SafePretty::default());
+    value.serialize(&mut ser).map_err(std::io::Error::other)?;
+    w.write_all(b"\n")?;
+    w.flush()
+}
+
+/// serde_json's pretty layout, with steering characters escaped inside strings.
+#[derive(Default)]
+struct SafePretty(serde_json::ser::PrettyFormatter<'static>);
+
+impl serde_json::ser::Formatter for SafePretty {
+    fn write_string_fragment<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        fragment: &str,
+    ) -> std::io::Result<()> {
+        let mut rest = fragment;
+        while let Some(i) = rest.find(crate::files::text::is_steering) {
+            w.write_all(&rest.as_bytes()[..i])?;
+            let c = rest[i..].chars().next().unwrap_or(' ');
+            write!(w, "\\u{:04x}", c as u32)?;
+            rest = &rest[i + c.len_utf8()..];
+        }
+        w.write_all(rest.as_bytes())
+    }
+
+    fn begin_array<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_array(w)
+    }
+    fn end_array<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array(w)
+    }
+    fn begin_array_value<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_array_value(w, first)
+    }
+    fn end_array_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_array_value(w)
+    }
+    fn begin_object<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object(w)
+    }
+    fn end_object<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object(w)
+    }
+    fn begin_object_key<W: ?Sized + Write>(
+        &mut self,
+        w: &mut W,
+        first: bool,
+    ) -> std::io::Result<()> {
+        self.0.begin_object_key(w, first)
+    }
+    fn begin_object_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.begin_object_value(w)
+    }
+    fn end_object_value<W: ?Sized + Write>(&mut self, w: &mut W) -> std::io::Result<()> {
+        self.0.end_object_value(w)
+    }
+}
+
+/// A number with three decimals for a table cell, scientific when huge.
+fn cell3(x: f64) -> String {
+    if x.is_finite() && x.abs() < 1e6 {
+        format!("{x:.3}")
+    } else {
+        short_num(x)
+    }
 }
 
 /// Life in years for a table cell.
 pub fn fmt_life(l: Option<f64>) -> String {
     match l {
         None => "no damage".into(),
-        Some(y) if y >= 1e6 => format!("{y:.1e}"),
+        Some(y) if !y.is_finite() || y >= 1e6 => short_num(y),
         Some(y) if y >= 100.0 => format!("{y:.0}"),
         Some(y) => format!("{y:.1}"),
     }
@@ -41,7 +134,7 @@ fn category_cell(d: &crate::results::DetailResult) -> String {
     d.components
         .iter()
         .map(|c| {
-            let cat = format!("{}", c.category_mpa);
+            let cat = short_num(c.category_mpa);
             if c.component == "shear" {
                 format!("τ{cat}")
             } else {
@@ -75,11 +168,11 @@ pub fn table(r: &Results) -> String {
     ]];
     for d in &r.details {
         rows.push([
-            d.id.clone(),
-            truncate(&d.location, 44),
+            one_line(&d.id).into_owned(),
+            truncate(&one_line(&d.location), 44),
             category_cell(d),
-            format!("{:.3}", d.damage),
-            format!("{:.3}", d.utilisation),
+            cell3(d.damage),
+            cell3(d.utilisation),
             fmt_life(d.life_years),
             d.status.as_str().into(),
         ]);
@@ -93,20 +186,21 @@ pub fn table(r: &Results) -> String {
     let mut out = String::new();
     out.push_str(&format!(
         "{} {} rev {} | family {} | design life {} years | γFf {} γMf {} D_lim {}{}\n\n",
-        r.project.reference,
-        r.project.title,
-        r.project.revision,
-        r.family.id,
-        r.basis.design_life_years,
-        r.basis.gamma_ff.value,
-        r.basis.gamma_mf.value,
-        r.basis.damage_limit.value,
+        one_line(&r.project.reference),
+        one_line(&r.project.title),
+        one_line(&r.project.revision),
+        one_line(&r.family.id),
+        short_num(r.basis.design_life_years),
+        short_num(r.basis.gamma_ff.value),
+        short_num(r.basis.gamma_mf.value),
+        short_num(r.basis.damage_limit.value),
         if r.basis.constant_amplitude_damage_limit != r.basis.damage_limit.value
             || r.basis.constant_amplitude_form != r.basis.utilisation_form
         {
             format!(
                 " (constant amplitude: {}, D ≤ {})",
-                r.basis.constant_amplitude_form, r.basis.constant_amplitude_damage_limit
+                r.basis.constant_amplitude_form,
+                short_num(r.basis.constant_amplitude_damage_limit)
             )
         } else {
             String::new()
@@ -137,17 +231,21 @@ pub fn table(r: &Results) -> String {
     out.push('\n');
     let s = &r.summary;
     out.push_str(&format!(
-        "{} details: {} pass, {} fail, {} outside the method; governing {} at utilisation {:.3}\n",
+        "{} details: {} pass, {} fail, {} outside the method; governing {} at utilisation {}\n",
         s.details,
         s.passed,
         s.failed,
         s.outside_method,
-        s.governing_detail.as_deref().unwrap_or("-"),
-        s.max_utilisation
+        one_line(s.governing_detail.as_deref().unwrap_or("-")),
+        cell3(s.max_utilisation)
     ));
     for d in &r.details {
         for w in &d.warnings {
-            out.push_str(&format!("warning: {}: {}\n", d.id, w.message));
+            out.push_str(&format!(
+                "warning: {}: {}\n",
+                one_line(&d.id),
+                one_line(&w.message)
+            ));
         }
     }
     out.push_str(CAUTION_LINE);

@@ -1,10 +1,11 @@
 //! `seamlife report`: the PDF calculation package.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use clap::Args;
 
 use super::exit_code_for;
+use super::output::print_text;
 use crate::catalogue::Library;
 use crate::error::Error;
 use crate::results::CAUTION_LINE;
@@ -28,10 +29,15 @@ pub struct ReportArgs {
     /// The typst program [default: `typst` on PATH].
     #[arg(long, env = "SEAMLIFE_TYPST", value_name = "PATH")]
     pub typst: Option<PathBuf>,
+    /// Seconds typst may take before it is stopped (no PDF is then written).
+    #[arg(long, value_name = "SECONDS", default_value_t = 600, value_parser = clap::value_parser!(u64).range(1..=86_400))]
+    pub typst_timeout: u64,
 }
 
-pub(super) fn run(a: &ReportArgs, library: &Library) -> Result<i32, Error> {
-    let results = crate::run_project(&a.file, library)?;
+pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Result<i32, Error> {
+    let run = crate::run_project_checked(&a.file, library)?;
+    let inputs = super::run_inputs(&run, jc, a.templates.as_deref());
+    let results = &run.results;
     let opts = crate::report::ReportOptions {
         output: a.output.clone(),
         templates: a.templates.clone(),
@@ -39,17 +45,21 @@ pub(super) fn run(a: &ReportArgs, library: &Library) -> Result<i32, Error> {
         pdf_a: a.pdf_a,
         typst: a.typst.clone(),
         creation_timestamp: None,
+        timeout: Some(std::time::Duration::from_secs(a.typst_timeout)),
+        inputs,
     };
-    let out = crate::report::write_report(&results, &opts)?;
+    let pending = crate::report::prepare_report(results, &opts)?;
     let s = &results.summary;
-    println!(
-        "wrote {} ({} details: {} pass, {} fail, {} outside the method)",
-        out.display(),
+    // Said before the PDF is moved into place: if standard output cannot take it, the
+    // run fails and leaves no new PDF (an earlier one stays as it was).
+    print_text(&format!(
+        "wrote {} ({} details: {} pass, {} fail, {} outside the method)\n{CAUTION_LINE}\n",
+        pending.target().display(),
         s.details,
         s.passed,
         s.failed,
         s.outside_method
-    );
-    println!("{CAUTION_LINE}");
-    Ok(exit_code_for(&results))
+    ))?;
+    pending.commit()?;
+    Ok(exit_code_for(results))
 }

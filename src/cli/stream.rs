@@ -2,12 +2,11 @@
 //! details are assessed in parallel in chunks and written in input order, so memory
 //! holds one chunk of results at a time, whatever the project's size.
 
-use std::io::Write;
-use std::path::Path;
-
 use crate::assess::{Engine, SummaryBuilder};
 use crate::error::Error;
+use crate::files::text::data_num;
 use crate::results::{DetailResult, Summary};
+use std::io::Write;
 
 /// Details assessed (in parallel) before their results are written.
 pub const CHUNK_DETAILS: usize = 4096;
@@ -38,7 +37,7 @@ pub const CSV_COLUMNS: [&str; 21] = [
 ];
 
 fn opt(v: Option<f64>) -> String {
-    v.map(|x| format!("{x}")).unwrap_or_default()
+    v.map(data_num).unwrap_or_default()
 }
 
 /// The CSV cells of one detail, in the order of [`CSV_COLUMNS`].
@@ -51,10 +50,10 @@ pub fn csv_cells(d: &DetailResult) -> [String; 21] {
         d.group.clone().unwrap_or_default(),
         d.detail_key.clone().unwrap_or_default(),
         d.status.as_str().to_string(),
-        format!("{}", d.utilisation),
+        data_num(d.utilisation),
         d.governing_check.clone(),
-        format!("{}", d.damage),
-        format!("{}", d.damage_limit),
+        data_num(d.damage),
+        data_num(d.damage_limit),
         opt(d.life_years),
         opt(d.reserve_factor),
         opt(d.required_category),
@@ -81,65 +80,19 @@ pub enum StreamFormat {
     JsonLines,
 }
 
-/// Where the stream goes: a file written whole or not at all, or standard output.
-enum Out {
-    File {
-        tmp: tempfile::NamedTempFile,
-        buf: std::io::BufWriter<std::fs::File>,
-    },
-    Stdout(std::io::BufWriter<std::io::Stdout>),
-}
-
-impl Out {
-    fn writer(&mut self) -> &mut dyn Write {
-        match self {
-            Out::File { buf, .. } => buf,
-            Out::Stdout(w) => w,
-        }
-    }
-}
-
-fn out_error(path: &Path) -> impl Fn(std::io::Error) -> Error + '_ {
-    move |source| Error::Output {
-        path: path.to_path_buf(),
-        source,
-    }
-}
-
-/// Assess `range` of the engine's details and write them as `format` to `output` (or
-/// standard output), `on_chunk` seeing the count done after each chunk. Returns the
-/// summary of the details written.
+/// Assess `range` of the engine's details and write them as `format` to `w`,
+/// `on_chunk` seeing the count done after each chunk; `escape` makes control
+/// characters visible (for a terminal). `io_err` turns a write failure into the
+/// caller's error. Returns the summary of the details written.
 pub fn write_details(
     engine: &Engine,
     range: std::ops::Range<usize>,
     format: StreamFormat,
-    output: Option<&Path>,
+    w: &mut dyn Write,
+    escape: bool,
+    io_err: &dyn Fn(std::io::Error) -> Error,
     on_chunk: &mut dyn FnMut(usize),
 ) -> Result<Summary, Error> {
-    let stdout_path = Path::new("<standard output>");
-    let mut out = match output {
-        Some(path) => {
-            let dir = match path.parent() {
-                Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-                _ => std::path::PathBuf::from("."),
-            };
-            let tmp = tempfile::Builder::new()
-                .prefix(".seamlife-")
-                .suffix(".part")
-                .tempfile_in(&dir)
-                .map_err(out_error(path))?;
-            let file = tmp.reopen().map_err(out_error(path))?;
-            Out::File {
-                tmp,
-                buf: std::io::BufWriter::with_capacity(1 << 20, file),
-            }
-        }
-        None => Out::Stdout(std::io::BufWriter::with_capacity(
-            1 << 20,
-            std::io::stdout(),
-        )),
-    };
-    let err_path = output.unwrap_or(stdout_path);
     let mut summary = SummaryBuilder::default();
     let mut each =
         |write: &mut dyn FnMut(&DetailResult) -> Result<(), Error>| -> Result<(), Error> {
@@ -155,53 +108,39 @@ pub fn write_details(
             }
             Ok(())
         };
-    let w = out.writer();
+    let csv_err = |e: csv::Error| match e.into_kind() {
+        csv::ErrorKind::Io(source) => io_err(source),
+        other => Error::Internal(format!("csv: {other:?}")),
+    };
     match format {
         StreamFormat::Csv => {
-            let mut csv = csv::WriterBuilder::new().from_writer(w);
-            csv.write_record(CSV_COLUMNS)
-                .map_err(|e| csv_error(err_path, e))?;
+            let mut csv = csv::WriterBuilder::new().from_writer(&mut *w);
+            csv.write_record(CSV_COLUMNS).map_err(csv_err)?;
             each(&mut |d| {
-                csv.write_record(csv_cells(d))
-                    .map_err(|e| csv_error(err_path, e))
+                let cells = csv_cells(d);
+                if escape {
+                    csv.write_record(
+                        cells
+                            .iter()
+                            .map(|c| crate::files::escape_controls(c).into_owned()),
+                    )
+                } else {
+                    csv.write_record(&cells)
+                }
+                .map_err(csv_err)
             })?;
-            csv.flush().map_err(out_error(err_path))?;
+            csv.flush().map_err(io_err)?;
         }
         StreamFormat::JsonLines => {
             each(&mut |d| {
                 serde_json::to_writer(&mut *w, d).map_err(|e| match e.io_error_kind() {
-                    Some(_) => Error::Output {
-                        path: err_path.to_path_buf(),
-                        source: e.into(),
-                    },
+                    Some(_) => io_err(e.into()),
                     None => Error::Internal(format!("cannot serialise a detail: {e}")),
                 })?;
-                w.write_all(b"\n").map_err(out_error(err_path))
+                w.write_all(b"\n").map_err(io_err)
             })?;
         }
     }
-    match out {
-        Out::File { tmp, mut buf } => {
-            buf.flush().map_err(out_error(err_path))?;
-            let file = buf
-                .into_inner()
-                .map_err(|e| out_error(err_path)(e.into_error()))?;
-            file.sync_all().map_err(out_error(err_path))?;
-            drop(file);
-            let path = output.unwrap_or(stdout_path);
-            tmp.persist(path).map_err(|e| out_error(path)(e.error))?;
-        }
-        Out::Stdout(mut w) => w.flush().map_err(out_error(err_path))?,
-    }
+    w.flush().map_err(io_err)?;
     Ok(summary.finish())
-}
-
-fn csv_error(path: &Path, e: csv::Error) -> Error {
-    match e.into_kind() {
-        csv::ErrorKind::Io(source) => Error::Output {
-            path: path.to_path_buf(),
-            source,
-        },
-        other => Error::Internal(format!("csv: {other:?}")),
-    }
 }

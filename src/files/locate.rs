@@ -66,6 +66,8 @@ enum Frame {
 struct Locator<'a> {
     targets: &'a [YamlPath],
     found: Vec<Option<(usize, usize)>>,
+    /// Record where each target's key stands rather than its value.
+    keys: bool,
     stack: Vec<Frame>,
     path: Vec<Step>,
 }
@@ -116,19 +118,28 @@ impl MarkedEventReceiver for Locator<'_> {
         match ev {
             Event::Scalar(text, ..) => match self.node(mark) {
                 None => {
+                    if self.keys {
+                        let mut p = self.path.clone();
+                        p.push(Step::Key(text.clone()));
+                        self.record(&p, mark);
+                    }
                     if let Some(Frame::Map { key, expect_key }) = self.stack.last_mut() {
                         *key = Some(text);
                         *expect_key = false;
                     }
                 }
                 Some(p) => {
-                    self.record(&p, mark);
+                    if !self.keys {
+                        self.record(&p, mark);
+                    }
                     self.after_value();
                 }
             },
             Event::Alias(_) => {
                 if let Some(p) = self.node(mark) {
-                    self.record(&p, mark);
+                    if !self.keys {
+                        self.record(&p, mark);
+                    }
                     self.after_value();
                 } else if let Some(Frame::Map { expect_key, .. }) = self.stack.last_mut() {
                     *expect_key = false;
@@ -138,7 +149,9 @@ impl MarkedEventReceiver for Locator<'_> {
                 let is_map = matches!(ev, Event::MappingStart(..));
                 match self.node(mark) {
                     Some(p) => {
-                        self.record(&p, mark);
+                        if !self.keys {
+                            self.record(&p, mark);
+                        }
                         self.path = p;
                     }
                     None => {
@@ -173,12 +186,51 @@ impl MarkedEventReceiver for Locator<'_> {
     }
 }
 
+/// Line and column (both 1-based) where the `n`-th document (1-based) of a YAML stream
+/// starts, if there is one.
+pub fn document_start(text: &str, n: usize) -> Option<(usize, usize)> {
+    struct Docs {
+        n: usize,
+        seen: usize,
+        found: Option<(usize, usize)>,
+    }
+    impl MarkedEventReceiver for Docs {
+        fn on_event(&mut self, ev: Event, mark: Marker) {
+            if matches!(ev, Event::DocumentStart) {
+                self.seen += 1;
+                if self.seen == self.n && self.found.is_none() {
+                    self.found = Some((mark.line(), mark.col() + 1));
+                }
+            }
+        }
+    }
+    let mut d = Docs {
+        n,
+        seen: 0,
+        found: None,
+    };
+    let mut parser = Parser::new_from_str(text);
+    let _ = parser.load(&mut d, true);
+    d.found
+}
+
 /// Line and column (both 1-based) of each target path's value; `None` where the path
 /// is not in the document or the document does not parse.
 pub fn locate(text: &str, targets: &[YamlPath]) -> Vec<Option<(usize, usize)>> {
+    run_locator(text, targets, false)
+}
+
+/// Line and column (both 1-based) of each target path's key (the last step must be a
+/// key); for a value that is empty, where the key stands is where to look.
+pub fn locate_keys(text: &str, targets: &[YamlPath]) -> Vec<Option<(usize, usize)>> {
+    run_locator(text, targets, true)
+}
+
+fn run_locator(text: &str, targets: &[YamlPath], keys: bool) -> Vec<Option<(usize, usize)>> {
     let mut loc = Locator {
         targets,
         found: vec![None; targets.len()],
+        keys,
         stack: Vec::new(),
         path: Vec::new(),
     };
@@ -214,6 +266,14 @@ mod tests {
             .key("r");
         let r = locate(text, &[p]);
         assert_eq!(r[0], Some((2, 34)));
+    }
+
+    #[test]
+    fn keys_are_found_for_empty_values() {
+        let text = "a:\n  - e:\n    n: 1\n";
+        let p = YamlPath::root().key("a").index(0).key("e");
+        // "  - e:" is line 2; the key starts at column 5 (1-based)
+        assert_eq!(locate_keys(text, std::slice::from_ref(&p))[0], Some((2, 5)));
     }
 
     #[test]

@@ -62,7 +62,50 @@ pub struct ProjectHistories {
     /// Counted series by (detail index, component, loading index).
     records: HashMap<(usize, Component, usize), CountedRecord>,
     pub series_files: Vec<SeriesFileInfo>,
+    /// The series files read, resolved (so that no output is written over one).
+    pub series_paths: Vec<PathBuf>,
+    /// Findings of the signal stage that belong with a detail's warnings.
+    pub notes: Vec<HistoryNote>,
 }
+
+/// A finding of the signal stage about one detail (e.g. a gate that removed every
+/// cycle of a record). Shaped as a results warning: a stable `code` and a message.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HistoryNote {
+    /// Index of the detail in the project file.
+    pub detail: usize,
+    pub detail_id: String,
+    /// `normal` or `shear`.
+    pub component: &'static str,
+    pub code: &'static str,
+    pub message: String,
+}
+
+/// Warning code of a gate that removes every cycle of a record.
+pub const GATE_REMOVES_ALL: &str = "gate-removes-all-cycles";
+
+/// The warning for a record whose gate removed every cycle, if it did: the gate is at
+/// least the record's whole span, so the series adds no damage.
+pub fn gate_note(rec: &CountedRecord) -> Option<String> {
+    let cycles = rec.full_cycles + rec.half_cycles;
+    if rec.gate_mpa > 0.0 && cycles == 0 && !rec.constant {
+        Some(format!(
+            "the hysteresis gate of {} MPa removes every cycle of series `{}` (column {}): the record spans only {} MPa from its lowest to its highest value, so it adds no damage; lower `gate_mpa` below the ranges that matter",
+            crate::files::short_num(rec.gate_mpa),
+            rec.file,
+            rec.column,
+            crate::files::short_num(rec.max_mpa - rec.min_mpa)
+        ))
+    } else {
+        None
+    }
+}
+
+/// Most cycles per year a spectrum block may carry. 1e15 a year is about 3·10⁷ cycles
+/// every second of the year, beyond any structural loading (common practice: machine
+/// vibration lies below a few kHz); a larger figure is a mistake in `per_year`,
+/// `cycles` or the record's hours, and would overflow the damage sum.
+pub const MAX_CYCLES_PER_YEAR: f64 = 1e15;
 
 impl ProjectHistories {
     /// The spectrum of detail `i` of the project (blocks given, table histories counted
@@ -156,27 +199,66 @@ pub const DEFAULT_MEAN_BINS: u32 = 16;
 /// Count the series files of a project, once each however many details refer to the
 /// same file, column and counting options.
 pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
-    let mut cache: BTreeMap<String, CountedRecord> = BTreeMap::new();
-    let mut files: BTreeMap<String, SeriesFileInfo> = BTreeMap::new();
+    let mut st = State::default();
     let mut out = ProjectHistories::default();
     for (i, d) in project.file.details.iter().enumerate() {
-        let base = YamlPath::root().key("details").index(i);
         for (comp, input) in [(Component::Normal, &d.normal), (Component::Shear, &d.shear)] {
             let Some(c) = input else { continue };
             for (k, ev) in c.loading.iter().enumerate() {
                 let Some(s) = &ev.series else { continue };
-                let sp = base
+                let sp = YamlPath::root()
+                    .key("details")
+                    .index(i)
                     .key(comp.as_str())
                     .key("loading")
                     .index(k)
                     .key("series");
-                let rec = counted(project, ev, s, &sp, &mut cache, &mut files)?;
+                let rec = counted(project, ev, s, &sp, &mut st)?;
+                if let Some(message) = gate_note(&rec) {
+                    st.notes.push(HistoryNote {
+                        detail: i,
+                        detail_id: d.id.clone(),
+                        component: comp.as_str(),
+                        code: GATE_REMOVES_ALL,
+                        message,
+                    });
+                }
+                let most = rec
+                    .matrix
+                    .iter()
+                    .map(|c| c.cycles * rec.repeats_per_year)
+                    .fold(0.0, f64::max);
+                if most.is_nan() || most > MAX_CYCLES_PER_YEAR {
+                    return Err(InputError::new(
+                        InputErrorKind::OutOfRange,
+                        locate_at(project, &sp),
+                        format!(
+                            "{sp}: the record repeated {} times a year gives {} cycles a year in one spectrum cell, more than the {} that any structure sees",
+                            crate::files::short_num(rec.repeats_per_year),
+                            crate::files::short_num(most),
+                            crate::files::short_num(MAX_CYCLES_PER_YEAR)
+                        ),
+                    )
+                    .hint("check `per_year`, or `record_hours` and `hours_per_year`, of this event")
+                    .into());
+                }
                 out.records.insert((i, comp, k), rec);
             }
         }
     }
-    out.series_files = files.into_values().collect();
+    out.series_files = st.files.into_values().collect();
+    out.series_paths = st.paths;
+    out.notes = st.notes;
     Ok(out)
+}
+
+/// What is gathered while the series are counted.
+#[derive(Default)]
+struct State {
+    cache: BTreeMap<String, CountedRecord>,
+    files: BTreeMap<String, SeriesFileInfo>,
+    paths: Vec<PathBuf>,
+    notes: Vec<HistoryNote>,
 }
 
 /// Count a history of the histories table: every cycle is its own block (its range and
@@ -294,22 +376,23 @@ pub fn resolve_series_path(
     Ok(canon)
 }
 
+/// The location of a path in the project file (only called on an error: locating
+/// re-reads the YAML).
+fn locate_at(project: &Project, p: &YamlPath) -> Location {
+    match crate::input::locate::locate(&project.text, std::slice::from_ref(p))[0] {
+        Some((l, c)) => Location::at(&project.path, l, c),
+        None => Location::file(&project.path),
+    }
+}
+
 fn counted(
     project: &Project,
     ev: &LoadEvent,
     s: &SeriesInput,
     sp: &YamlPath,
-    cache: &mut BTreeMap<String, CountedRecord>,
-    files: &mut BTreeMap<String, SeriesFileInfo>,
+    st: &mut State,
 ) -> Result<CountedRecord, Error> {
-    // Located only when there is an error to report (locating re-reads the YAML).
-    let loc =
-        || match crate::input::locate::locate(&project.text, std::slice::from_ref(&sp.key("file")))
-            [0]
-        {
-            Some((l, c)) => Location::at(&project.path, l, c),
-            None => Location::file(&project.path),
-        };
+    let loc = || locate_at(project, &sp.key("file"));
     let path = resolve_series_path(&project.dir, &s.file, s.allow_outside_project, &loc)?;
     let repeats_per_year = match (s.record_hours, s.hours_per_year) {
         // record repeats per year = operating hours per year / record duration
@@ -330,7 +413,7 @@ fn counted(
         s.bins,
         s.mean_bins
     );
-    if let Some(rec) = cache.get(&key) {
+    if let Some(rec) = st.cache.get(&key) {
         let mut r = rec.clone();
         r.event = ev.event.clone();
         r.repeats_per_year = repeats_per_year;
@@ -379,7 +462,10 @@ fn counted(
             format!("cannot read `{}`: {e}", s.file),
         )
     })?;
-    files.entry(s.file.clone()).or_insert(SeriesFileInfo {
+    if !st.paths.contains(&path) {
+        st.paths.push(path.clone());
+    }
+    st.files.entry(s.file.clone()).or_insert(SeriesFileInfo {
         file: s.file.clone(),
         sha256: digest.0,
         bytes: digest.1,
@@ -401,7 +487,7 @@ fn counted(
             repeats_per_year,
         },
     );
-    cache.insert(key, rec.clone());
+    st.cache.insert(key, rec.clone());
     Ok(rec)
 }
 
@@ -470,6 +556,9 @@ pub fn series_hint(e: &crate::histories::series::SeriesError) -> String {
         E::ShortRow { .. } => "every row must hold the chosen column".into(),
         E::NoSuchColumn { .. } => "choose one of the names listed, or a 1-based column number (`column:` in a project, `--column` for `seamlife count`)".into(),
         E::ColumnOutOfRange { .. } => "column numbers start at 1".into(),
+        E::OutOfRange { .. } => "check the unit and scale: values must be in MPa (or µε with `unit: microstrain` and the modulus)".into(),
+        E::LineTooLong { .. } => "the file must be a comma-separated record with one sample per line".into(),
+        E::DuplicateColumn { .. } => "rename one of the columns in the header, or choose the column by its number".into(),
         E::Invalid(_) | E::Gate(_) | E::Spectrum(_) => "check the series options (scale, modulus, gate, bins)".into(),
     }
 }

@@ -4,16 +4,88 @@
 //! reused [`csv::ByteRecord`], converted to MPa and handed on in small
 //! chunks, so a file of any length is counted in bounded memory.
 
+use crate::files::text::{escape_controls, short_num, CLIP_CHARS};
 use crate::histories::rainflow::{CountStats, Cycle, GateError, RainflowCounter, ResidueMode};
 use crate::histories::spectrum::{MatrixCell, RangeBin, Spectrum, SpectrumError, SpectrumSpec};
 use serde::Serialize;
 use std::fmt;
 use std::fs::File;
-use std::io::BufReader;
+use std::io::{BufReader, Read};
 use std::path::{Path, PathBuf};
 
 /// Samples converted per chunk handed to the counter.
 const CHUNK: usize = 4096;
+
+/// Longest line read from a series file, in bytes. A record line holds a few numbers;
+/// a longer line means the file is not a record (or a device that never ends a line),
+/// and reading it whole would take memory without bound.
+pub const MAX_LINE_BYTES: usize = 1024 * 1024;
+
+/// Largest stress magnitude accepted in a series, MPa. The strongest structural steels
+/// reach about 1 500 MPa; 1e5 MPa is far beyond any of them, so a larger value is a
+/// unit or scale mistake (Pa for MPa, strain for µε), and beyond it ranges and damage
+/// sums would overflow.
+pub const MAX_SERIES_STRESS_MPA: f64 = 1e5;
+
+/// Marker carried inside the I/O error when a line is too long.
+#[derive(Debug)]
+struct LineTooLong {
+    line: u64,
+}
+
+impl fmt::Display for LineTooLong {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "line {} is longer than {MAX_LINE_BYTES} bytes",
+            self.line
+        )
+    }
+}
+
+impl std::error::Error for LineTooLong {}
+
+/// A reader that fails, instead of reading on, when a line exceeds [`MAX_LINE_BYTES`].
+/// It looks only at the first and last newline of each buffer read, so it costs next to
+/// nothing on ordinary records.
+struct LineBound<R> {
+    inner: R,
+    /// Bytes since the last newline.
+    run: usize,
+    /// Newlines seen.
+    newlines: u64,
+}
+
+impl<R: Read> Read for LineBound<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        let b = &buf[..n];
+        match b.iter().position(|&c| c == b'\n') {
+            None => self.run += n,
+            Some(first) => {
+                if self.run + first > MAX_LINE_BYTES {
+                    return Err(std::io::Error::other(LineTooLong {
+                        line: self.newlines + 1,
+                    }));
+                }
+                let last = b.iter().rposition(|&c| c == b'\n').unwrap_or(first);
+                // Lines wholly inside this buffer are shorter than the buffer; the
+                // buffer (64 KiB) is far below the limit, so only the ends matter.
+                self.newlines +=
+                    1 + b[first + 1..=last].iter().filter(|&&c| c == b'\n').count() as u64;
+                self.run = n - last - 1;
+            }
+        }
+        if self.run > MAX_LINE_BYTES {
+            return Err(std::io::Error::other(LineTooLong {
+                line: self.newlines + 1,
+            }));
+        }
+        Ok(n)
+    }
+}
+
+type SeriesReader = csv::Reader<LineBound<BufReader<File>>>;
 
 /// Which column holds the signal.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
@@ -110,7 +182,7 @@ pub enum SeriesError {
         samples: u64,
     },
     /// A cell that is not a number.
-    #[error("time series file {path}, line {line}, column {column}: '{text}' is not a number")]
+    #[error("time series file {path}, line {line}, column {column}: '{text}'{} is not a number", length_note(*chars))]
     NotNumeric {
         /// File.
         path: PathBuf,
@@ -118,12 +190,14 @@ pub enum SeriesError {
         line: u64,
         /// Column, as named by the user (and its header name, if any).
         column: String,
-        /// Offending cell text.
+        /// Offending cell text, cut to its first 60 characters and an ellipsis when longer.
         text: String,
+        /// Length of the whole cell, in characters.
+        chars: usize,
     },
     /// NaN or infinite value.
     #[error(
-        "time series file {path}, line {line}, column {column}: '{text}' is not a finite number"
+        "time series file {path}, line {line}, column {column}: '{text}'{} is not a finite number", length_note(*chars)
     )]
     NonFinite {
         /// File.
@@ -132,8 +206,45 @@ pub enum SeriesError {
         line: u64,
         /// Column, as named by the user (and its header name, if any).
         column: String,
-        /// Offending cell text.
+        /// Offending cell text, cut as for `NotNumeric`.
         text: String,
+        /// Length of the whole cell, in characters.
+        chars: usize,
+    },
+    /// A stress beyond any structural material, almost always a unit mistake.
+    #[error(
+        "time series file {path}, line {line}, column {column}: {} MPa (cell '{text}', after unit and scale) is beyond the {} MPa that any stress in a steel detail can reach", short_num(*value_mpa), short_num(MAX_SERIES_STRESS_MPA)
+    )]
+    OutOfRange {
+        /// File.
+        path: PathBuf,
+        /// 1-based line in the file.
+        line: u64,
+        /// Column, as named by the user (and its header name, if any).
+        column: String,
+        /// Offending cell text, cut as for `NotNumeric`.
+        text: String,
+        /// The value in MPa.
+        value_mpa: f64,
+    },
+    /// A line longer than any record line should be (a file that is not a CSV record,
+    /// or a device that never ends a line).
+    #[error("time series file {path}, line {line}: the line is longer than {} MiB; a record line holds a few numbers", MAX_LINE_BYTES / (1024 * 1024))]
+    LineTooLong {
+        /// File.
+        path: PathBuf,
+        /// 1-based line in the file.
+        line: u64,
+    },
+    /// A column name chosen that the header holds more than once.
+    #[error("time series file {path}: the header names column '{name}' {} times (columns {}); a name must pick one column", positions.len(), positions.iter().map(|p| p.to_string()).collect::<Vec<_>>().join(", "))]
+    DuplicateColumn {
+        /// File.
+        path: PathBuf,
+        /// The name asked for.
+        name: String,
+        /// 1-based positions where it occurs.
+        positions: Vec<usize>,
     },
     /// A row too short to hold the column.
     #[error(
@@ -183,6 +294,27 @@ pub enum SeriesError {
     Spectrum(#[from] SpectrumError),
 }
 
+fn length_note(chars: usize) -> String {
+    if chars > CLIP_CHARS {
+        format!(" ({chars} characters)")
+    } else {
+        String::new()
+    }
+}
+
+/// A cell's text for a message: at most [`CLIP_CHARS`] characters, then an ellipsis;
+/// and its whole length in characters.
+fn cell_text(cell: &[u8]) -> (String, usize) {
+    let t = String::from_utf8_lossy(cell.trim_ascii());
+    let chars = t.chars().count();
+    if chars <= CLIP_CHARS {
+        (escape_controls(&t).into_owned(), chars)
+    } else {
+        let head: String = t.chars().take(CLIP_CHARS).collect();
+        (format!("{}…", escape_controls(&head)), chars)
+    }
+}
+
 fn line_suffix(line: Option<u64>) -> String {
     match line {
         Some(l) => format!(" at line {l}"),
@@ -190,15 +322,25 @@ fn line_suffix(line: Option<u64>) -> String {
     }
 }
 
+/// Header names listed in a message: at most 20, each cut to 60 characters.
 fn list_columns(cols: &[String]) -> String {
+    const SHOWN: usize = 20;
     if cols.is_empty() {
-        "none".to_string()
-    } else {
-        cols.iter()
-            .map(|c| format!("'{c}'"))
-            .collect::<Vec<_>>()
-            .join(", ")
+        return "none".to_string();
     }
+    let mut s = cols
+        .iter()
+        .take(SHOWN)
+        .map(|c| {
+            let (t, _) = cell_text(c.as_bytes());
+            format!("'{t}'")
+        })
+        .collect::<Vec<_>>()
+        .join(", ");
+    if cols.len() > SHOWN {
+        s.push_str(&format!(" and {} more", cols.len() - SHOWN));
+    }
+    s
 }
 
 /// Facts about a series that was streamed.
@@ -285,8 +427,8 @@ struct Column {
     label: String,
 }
 
-fn open(spec: &SeriesSpec) -> Result<csv::Reader<BufReader<File>>, SeriesError> {
-    let file = File::open(&spec.path).map_err(|source| SeriesError::Open {
+fn open(spec: &SeriesSpec) -> Result<SeriesReader, SeriesError> {
+    let file = crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
         path: spec.path.clone(),
         source,
     })?;
@@ -294,7 +436,11 @@ fn open(spec: &SeriesSpec) -> Result<csv::Reader<BufReader<File>>, SeriesError> 
         .has_headers(spec.has_header)
         .flexible(true)
         .buffer_capacity(1 << 16)
-        .from_reader(BufReader::with_capacity(1 << 16, file)))
+        .from_reader(LineBound {
+            inner: BufReader::with_capacity(1 << 16, file),
+            run: 0,
+            newlines: 0,
+        }))
 }
 
 /// 1-based line on which the record at `pos` starts.
@@ -307,8 +453,7 @@ fn open(spec: &SeriesSpec) -> Result<csv::Reader<BufReader<File>>, SeriesError> 
 /// are the lines before the record in both cases.
 fn record_line(path: &Path, pos: &csv::Position) -> u64 {
     let count = || -> std::io::Result<u64> {
-        use std::io::Read;
-        let mut f = BufReader::new(File::open(path)?).take(pos.byte() + 1);
+        let mut f = BufReader::new(crate::files::open_regular(path)?).take(pos.byte() + 1);
         let mut buf = vec![0u8; 1 << 16];
         let mut newlines = 0u64;
         loop {
@@ -324,6 +469,14 @@ fn record_line(path: &Path, pos: &csv::Position) -> u64 {
 }
 
 fn read_err(path: &Path, e: csv::Error) -> SeriesError {
+    if let csv::ErrorKind::Io(io) = e.kind() {
+        if let Some(t) = io.get_ref().and_then(|x| x.downcast_ref::<LineTooLong>()) {
+            return SeriesError::LineTooLong {
+                path: path.to_path_buf(),
+                line: t.line,
+            };
+        }
+    }
     let line = e.position().map(|p| record_line(path, p));
     SeriesError::Read {
         path: path.to_path_buf(),
@@ -334,7 +487,7 @@ fn read_err(path: &Path, e: csv::Error) -> SeriesError {
 
 fn resolve(
     spec: &SeriesSpec,
-    rdr: &mut csv::Reader<BufReader<File>>,
+    rdr: &mut SeriesReader,
     first: Option<&csv::ByteRecord>,
 ) -> Result<Column, SeriesError> {
     let headers: Vec<String> = if spec.has_header {
@@ -354,15 +507,26 @@ fn resolve(
                 )));
             }
             let want = name.trim();
-            match headers.iter().position(|h| h == want) {
-                Some(pos) => Ok(Column {
-                    pos,
-                    label: format!("'{want}'"),
+            let found: Vec<usize> = headers
+                .iter()
+                .enumerate()
+                .filter(|(_, h)| *h == want)
+                .map(|(i, _)| i)
+                .collect();
+            match found.as_slice() {
+                [pos] => Ok(Column {
+                    pos: *pos,
+                    label: format!("'{}'", escape_controls(want)),
                 }),
-                None => Err(SeriesError::NoSuchColumn {
+                [] => Err(SeriesError::NoSuchColumn {
                     path: spec.path.clone(),
-                    name: name.clone(),
+                    name: escape_controls(name).into_owned(),
                     available: headers,
+                }),
+                many => Err(SeriesError::DuplicateColumn {
+                    path: spec.path.clone(),
+                    name: escape_controls(want).into_owned(),
+                    positions: many.iter().map(|p| p + 1).collect(),
                 }),
             }
         }
@@ -385,7 +549,7 @@ fn resolve(
                 });
             }
             let label = match headers.get(i - 1) {
-                Some(h) if !h.is_empty() => format!("{i} ('{h}')"),
+                Some(h) if !h.is_empty() => format!("{i} ('{}')", cell_text(h.as_bytes()).0),
                 _ => format!("{i}"),
             };
             Ok(Column { pos: i - 1, label })
@@ -449,29 +613,44 @@ pub fn stream_series<F: FnMut(&[f64])>(
         let v = match parse_cell(cell) {
             Some(v) if v.is_finite() => v * factor,
             Some(_) => {
+                let (text, chars) = cell_text(cell);
                 return Err(SeriesError::NonFinite {
                     path: spec.path.clone(),
                     line: line(),
                     column: col.label.clone(),
-                    text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
-                })
+                    text,
+                    chars,
+                });
             }
             None => {
+                let (text, chars) = cell_text(cell);
                 return Err(SeriesError::NotNumeric {
                     path: spec.path.clone(),
                     line: line(),
                     column: col.label.clone(),
-                    text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
-                })
+                    text,
+                    chars,
+                });
             }
         };
         if !v.is_finite() {
             // finite value overflowing once scaled
+            let (text, chars) = cell_text(cell);
             return Err(SeriesError::NonFinite {
                 path: spec.path.clone(),
                 line: line(),
                 column: col.label.clone(),
-                text: String::from_utf8_lossy(cell.trim_ascii()).into_owned(),
+                text,
+                chars,
+            });
+        }
+        if v.abs() > MAX_SERIES_STRESS_MPA {
+            return Err(SeriesError::OutOfRange {
+                path: spec.path.clone(),
+                line: line(),
+                column: col.label.clone(),
+                text: cell_text(cell).0,
+                value_mpa: v,
             });
         }
         lo = lo.min(v);

@@ -8,7 +8,48 @@ use super::schema::*;
 use crate::catalogue::{Component, Family, Library};
 use crate::error::InputErrorKind;
 use crate::files::locate::YamlPath;
-use crate::files::suggest;
+use crate::files::{short_num, suggest};
+
+const STRESS_WHY: &str = "values are in MPa; no steel detail sees more than a few thousand MPa, so check the unit (Pa or kPa given as MPa?)";
+const COUNT_WHY: &str = "1e15 cycles is beyond any structure's loading; check the number (a typing slip in the exponent?)";
+
+/// Largest stress magnitude accepted in a block (range, mean, maximum, minimum) and
+/// for a yield strength, MPa. The strongest structural steels reach about 1 500 MPa;
+/// 1e5 MPa is far beyond any of them, so a larger value is a unit mistake (Pa or kPa
+/// for MPa), and beyond it damage sums overflow.
+pub const MAX_STRESS_MPA: f64 = 1e5;
+/// Largest cycle count per occurrence of an event, and largest occurrences per year
+/// (each alone; their product is bounded by `histories::MAX_CYCLES_PER_YEAR`).
+pub const MAX_COUNT: f64 = 1e15;
+/// Longest design life, years. Codes design for 25 to 120 years; 10 000 years is far
+/// beyond any structure, and longer lives overflow the cycle sums.
+pub const MAX_DESIGN_LIFE_YEARS: f64 = 1e4;
+/// Thickest plate, mm: 10 m of steel is no plate of a welded detail.
+pub const MAX_THICKNESS_MM: f64 = 1e4;
+/// Hours in a leap year (366 × 24): no event runs longer in a year.
+pub const MAX_HOURS_PER_YEAR: f64 = 8784.0;
+/// Partial factors and the damage limit overridden by hand must lie in this range
+/// (codes use about 1.0 to 1.35 and damage limits 0.2 to 1.0; outside 0.1 to 10 the
+/// value is a typing mistake).
+pub const FACTOR_RANGE: (f64, f64) = (0.1, 10.0);
+/// Stiffest modulus accepted for a strain record, MPa (steel is 210 000; 1e7 MPa is
+/// stiffer than any material).
+pub const MAX_MODULUS_MPA: f64 = 1e7;
+/// Finest bin width of a counted series, MPa (strain gauges resolve about 0.2 MPa;
+/// finer bins carry no information and can make one cell per cycle).
+pub const MIN_BIN_WIDTH_MPA: f64 = 1e-3;
+/// Most range bins and mean bins of a counted series (more cannot be read in a figure).
+pub const MAX_BINS: u32 = 4096;
+
+/// Longest texts, in characters. The reference and revision stand in every page header
+/// and the output file name; ids and names stand in table cells; the rest are printed
+/// in full in the package, where a page must still hold them.
+pub const MAX_ID_CHARS: usize = 64;
+pub const MAX_REFERENCE_CHARS: usize = 64;
+pub const MAX_REVISION_CHARS: usize = 16;
+pub const MAX_NAME_CHARS: usize = 120;
+pub const MAX_LINE_CHARS: usize = 300;
+pub const MAX_PARAGRAPH_CHARS: usize = 2000;
 
 /// A problem found after parsing, located by its path in the document.
 pub(super) struct Problem {
@@ -38,7 +79,7 @@ impl Checker {
         });
     }
 
-    fn positive(&mut self, path: impl FnOnce() -> YamlPath, what: &str, v: f64) {
+    fn positive(&mut self, path: impl Fn() -> YamlPath, what: &str, v: f64) {
         if v.is_nan() {
             self.push(
                 path(),
@@ -57,7 +98,7 @@ impl Checker {
             self.push(
                 path(),
                 InputErrorKind::InvalidValue,
-                format!("{what} must be greater than zero, got {v}"),
+                format!("{what} must be greater than zero, got {}", short_num(v)),
                 Some(if what.contains("range") {
                     "a stress range is max minus min and is always positive; give the sign through max_mpa/min_mpa".into()
                 } else {
@@ -67,12 +108,82 @@ impl Checker {
         }
     }
 
-    fn finite(&mut self, path: impl FnOnce() -> YamlPath, what: &str, v: f64) {
+    /// A positive number no larger than `max`; `why` says what a larger one means.
+    fn positive_upto(
+        &mut self,
+        path: impl Fn() -> YamlPath,
+        what: &str,
+        v: f64,
+        max: f64,
+        why: &str,
+    ) {
+        let before = self.problems.len();
+        self.positive(&path, what, v);
+        if self.problems.len() == before && v > max {
+            self.push(
+                path(),
+                InputErrorKind::OutOfRange,
+                format!(
+                    "{what} is {}, above the largest accepted {}",
+                    short_num(v),
+                    short_num(max)
+                ),
+                Some(why.into()),
+            );
+        }
+    }
+
+    /// A finite number of magnitude at most `max`.
+    fn finite_upto(
+        &mut self,
+        path: impl Fn() -> YamlPath,
+        what: &str,
+        v: f64,
+        max: f64,
+        why: &str,
+    ) {
+        let before = self.problems.len();
+        self.finite(&path, what, v);
+        if self.problems.len() == before && v.abs() > max {
+            self.push(
+                path(),
+                InputErrorKind::OutOfRange,
+                format!(
+                    "{what} is {}, beyond the accepted ±{}",
+                    short_num(v),
+                    short_num(max)
+                ),
+                Some(why.into()),
+            );
+        }
+    }
+
+    /// A text of at most `max` characters.
+    fn text_len(
+        &mut self,
+        path: impl Fn() -> YamlPath,
+        what: &str,
+        v: &str,
+        max: usize,
+        why: &str,
+    ) {
+        let n = v.chars().count();
+        if n > max {
+            self.push(
+                path(),
+                InputErrorKind::TooLong,
+                format!("{what} is {n} characters long; at most {max} are allowed"),
+                Some(why.into()),
+            );
+        }
+    }
+
+    fn finite(&mut self, path: impl Fn() -> YamlPath, what: &str, v: f64) {
         if !v.is_finite() {
             self.push(
                 path(),
                 InputErrorKind::InvalidValue,
-                format!("{what} must be a finite number, got {v}"),
+                format!("{what} must be a finite number, got {}", short_num(v)),
                 Some("give a finite number in MPa".into()),
             );
         }
@@ -80,7 +191,7 @@ impl Checker {
 
     fn option_name(
         &mut self,
-        path: impl FnOnce() -> YamlPath,
+        path: impl Fn() -> YamlPath,
         what: &str,
         name: &str,
         options: Vec<String>,
@@ -194,6 +305,81 @@ fn check_header(c: &mut Checker, file: &ProjectFile) {
             );
         }
     }
+    let p = &file.project;
+    let header = "it stands in every page header and in the output file name; use a short code, e.g. KB-2231";
+    c.text_len(
+        || pr.key("reference"),
+        "reference",
+        &p.reference,
+        MAX_REFERENCE_CHARS,
+        header,
+    );
+    c.text_len(
+        || pr.key("revision"),
+        "revision",
+        &p.revision,
+        MAX_REVISION_CHARS,
+        "a revision is a short mark, e.g. B or P02",
+    );
+    c.text_len(
+        || pr.key("title"),
+        "title",
+        &p.title,
+        MAX_LINE_CHARS,
+        "keep the title to a line or two; put detail in the description of the structure",
+    );
+    let name = "a name or initials fit here; the package prints it in the title block";
+    c.text_len(
+        || pr.key("prepared_by"),
+        "prepared_by",
+        &p.prepared_by,
+        MAX_NAME_CHARS,
+        name,
+    );
+    if let Some(v) = &p.checked_by {
+        c.text_len(
+            || pr.key("checked_by"),
+            "checked_by",
+            v,
+            MAX_NAME_CHARS,
+            name,
+        );
+    }
+    for (key, v) in [
+        ("client", &p.client),
+        ("structure", &p.structure),
+        ("specification", &p.specification),
+    ] {
+        if let Some(v) = v {
+            c.text_len(
+                || pr.key(key),
+                key,
+                v,
+                MAX_LINE_CHARS,
+                "keep it to a line or two",
+            );
+        }
+    }
+    for (i, r) in p.revisions.iter().enumerate() {
+        let rp = pr.key("revisions").index(i);
+        c.text_len(
+            || rp.key("revision"),
+            "revision",
+            &r.revision,
+            MAX_REVISION_CHARS,
+            "a revision is a short mark, e.g. B or P02",
+        );
+        c.text_len(
+            || rp.key("description"),
+            "description",
+            &r.description,
+            MAX_PARAGRAPH_CHARS,
+            "describe the change in a few lines",
+        );
+        if let Some(v) = &r.by {
+            c.text_len(|| rp.key("by"), "by", v, MAX_NAME_CHARS, name);
+        }
+    }
 }
 
 /// The basis: family, design life, overrides with reasons, named family options.
@@ -213,10 +399,12 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
             Some(hint),
         );
     }
-    c.positive(
+    c.positive_upto(
         || b.key("design_life_years"),
         "design_life_years",
         file.basis.design_life_years,
+        MAX_DESIGN_LIFE_YEARS,
+        "structures are designed for 25 to 120 years; 10 000 years is the most accepted",
     );
     for (key, ov) in [
         ("gamma_ff", &file.basis.gamma_ff),
@@ -224,7 +412,29 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
         ("damage_limit", &file.basis.damage_limit),
     ] {
         if let Some(o) = ov {
-            c.positive(|| b.key(key).key("value"), key, o.value);
+            let vp = b.key(key).key("value");
+            c.positive(|| vp.clone(), key, o.value);
+            let (lo, hi) = FACTOR_RANGE;
+            if o.value.is_finite() && o.value > 0.0 && !(lo..=hi).contains(&o.value) {
+                c.push(
+                    vp,
+                    InputErrorKind::OutOfRange,
+                    format!(
+                        "{key} {} lies outside {} to {}",
+                        short_num(o.value),
+                        short_num(lo),
+                        short_num(hi)
+                    ),
+                    Some("codes use partial factors of about 1.0 to 1.35 and damage limits of 0.2 to 1.0; check the value".into()),
+                );
+            }
+            c.text_len(
+                || b.key(key).key("reason"),
+                "reason",
+                &o.reason,
+                MAX_PARAGRAPH_CHARS,
+                "state the reason in a few lines",
+            );
             if o.reason.trim().is_empty() {
                 c.push(
                     b.key(key).key("reason"),
@@ -309,11 +519,30 @@ fn check_events_and_tables(c: &mut Checker, file: &ProjectFile) {
 fn check_materials(c: &mut Checker, file: &ProjectFile) {
     let root = YamlPath::root();
     for (name, m) in &file.materials {
-        c.positive(
-            || root.key("materials").key(name).key("fy_mpa"),
+        let mp = root.key("materials").key(name);
+        c.positive_upto(
+            || mp.key("fy_mpa"),
             "fy_mpa",
             m.fy_mpa,
+            MAX_STRESS_MPA,
+            STRESS_WHY,
         );
+        c.text_len(
+            || mp.clone(),
+            "material name",
+            name,
+            MAX_ID_CHARS,
+            "use a short grade name, e.g. S355",
+        );
+        if let Some(d) = &m.description {
+            c.text_len(
+                || mp.key("description"),
+                "description",
+                d,
+                MAX_LINE_CHARS,
+                "keep it to a line or two",
+            );
+        }
     }
 }
 
@@ -337,6 +566,37 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
     let mut first_seen: BTreeMap<&str, usize> = BTreeMap::new();
     for (i, det) in file.details.iter().enumerate() {
         let p = d.index(i);
+        c.text_len(
+            || p.key("id"),
+            "detail id",
+            &det.id,
+            MAX_ID_CHARS,
+            "give each detail a short unique id, e.g. RG2-W01",
+        );
+        c.text_len(
+            || p.key("location"),
+            "location",
+            &det.location,
+            MAX_LINE_CHARS,
+            "say where the detail is in a line; put more in `description`",
+        );
+        if det.location.trim().is_empty() {
+            c.push(
+                p.key("location"),
+                InputErrorKind::MissingField,
+                "location is empty".into(),
+                Some("say where the detail is; the package prints it on the detail's sheet".into()),
+            );
+        }
+        if let Some(d) = &det.description {
+            c.text_len(
+                || p.key("description"),
+                "description",
+                d,
+                MAX_PARAGRAPH_CHARS,
+                "keep the description to a paragraph",
+            );
+        }
         if det.id.trim().is_empty() {
             c.push(
                 p.key("id"),
@@ -379,9 +639,22 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 Some(hint),
             );
         }
-        c.positive(|| p.key("thickness_mm"), "thickness_mm", det.thickness_mm);
+        let size_why = "thickness and distances are in mm; 10 000 mm is the most accepted";
+        c.positive_upto(
+            || p.key("thickness_mm"),
+            "thickness_mm",
+            det.thickness_mm,
+            MAX_THICKNESS_MM,
+            size_why,
+        );
         if let Some(l) = det.toe_distance_mm {
-            c.positive(|| p.key("toe_distance_mm"), "toe_distance_mm", l);
+            c.positive_upto(
+                || p.key("toe_distance_mm"),
+                "toe_distance_mm",
+                l,
+                MAX_THICKNESS_MM * 10.0,
+                size_why,
+            );
         }
         if let Some(n) = det.thickness_exponent {
             if !(n.is_finite() && (0.0..=1.0).contains(&n)) {
@@ -531,7 +804,7 @@ fn check_component(
         );
     }
     for (k, ev) in ci.loading.iter().enumerate() {
-        let ep = || cp.key("loading").index(k);
+        let ep = cp.key("loading").index(k);
         let sources = [
             ev.blocks.is_some(),
             ev.series.is_some(),
@@ -539,14 +812,35 @@ fn check_component(
         ];
         if sources.iter().filter(|&&x| x).count() != 1 {
             c.push(
-                ep(),
+                ep.clone(),
                 InputErrorKind::MissingField,
                 "an event needs exactly one of `blocks:` or `series:`".into(),
                 Some("split block loading and a measured series into two events".into()),
             );
         }
+        c.text_len(
+            || ep.key("event"),
+            "event",
+            &ev.event,
+            MAX_LINE_CHARS,
+            "name the event in a few words",
+        );
+        let timed = ev
+            .series
+            .as_ref()
+            .is_some_and(|s| s.record_hours.is_some() || s.hours_per_year.is_some());
+        if ev.per_year.is_some() && timed {
+            c.push(
+                ep.key("per_year"),
+                InputErrorKind::InvalidValue,
+                "`per_year` and the series' `record_hours`/`hours_per_year` both say how often the record repeats; give one of them".into(),
+                Some("keep `per_year` (repeats of the record per year), or remove it and give `record_hours` with `hours_per_year`".into()),
+            );
+        }
         match ev.per_year {
-            Some(py) => c.positive(|| ep().key("per_year"), "per_year", py),
+            Some(py) => {
+                c.positive_upto(|| ep.key("per_year"), "per_year", py, MAX_COUNT, COUNT_WHY)
+            }
             None => {
                 let timed = ev
                     .series
@@ -554,7 +848,7 @@ fn check_component(
                     .is_some_and(|s| s.record_hours.is_some() && s.hours_per_year.is_some());
                 if !timed {
                     c.push(
-                        ep(),
+                        ep.clone(),
                         InputErrorKind::MissingField,
                         "missing field `per_year` (occurrences of the event per year)".into(),
                         Some(if ev.series.is_some() {
@@ -570,18 +864,40 @@ fn check_component(
         if let Some(blocks) = &ev.blocks {
             if blocks.is_empty() {
                 c.push(
-                    ep().key("blocks"),
+                    ep.key("blocks"),
                     InputErrorKind::MissingField,
                     "blocks is empty".into(),
                     Some("list at least one {range_mpa, cycles} block".into()),
                 );
             }
             for (j, bl) in blocks.iter().enumerate() {
-                check_block(c, bl, &|| ep().key("blocks").index(j));
+                let bp = ep.key("blocks").index(j);
+                check_block(c, bl, &bp);
+                let per_year = ev.per_year.unwrap_or(1.0);
+                let total = bl.cycles * per_year;
+                if bl.cycles.is_finite()
+                    && per_year.is_finite()
+                    && bl.cycles <= MAX_COUNT
+                    && per_year <= MAX_COUNT
+                    && total > crate::histories::MAX_CYCLES_PER_YEAR
+                {
+                    c.push(
+                        bp.key("cycles"),
+                        InputErrorKind::OutOfRange,
+                        format!(
+                            "cycles {} × per_year {} = {} cycles a year, more than the {} accepted",
+                            short_num(bl.cycles),
+                            short_num(per_year),
+                            short_num(total),
+                            short_num(crate::histories::MAX_CYCLES_PER_YEAR)
+                        ),
+                        Some("1e15 cycles a year is about 3·10⁷ every second; check `cycles` (per occurrence) and `per_year`".into()),
+                    );
+                }
             }
         }
         if let Some(s) = &ev.series {
-            check_series(c, s, &ep().key("series"));
+            check_series(c, s, &ep.key("series"));
         }
     }
 }
@@ -622,34 +938,40 @@ fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath)
     }
 }
 
-fn check_block(c: &mut Checker, bl: &Block, bp: &dyn Fn() -> YamlPath) {
+fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
     match (bl.range_mpa, bl.mean_mpa, bl.max_mpa, bl.min_mpa) {
         (Some(r), mean, None, None) => {
-            c.positive(|| bp().key("range_mpa"), "range_mpa", r);
+            c.positive_upto(|| bp.key("range_mpa"), "range_mpa", r, MAX_STRESS_MPA, STRESS_WHY);
             if let Some(m) = mean {
-                c.finite(|| bp().key("mean_mpa"), "mean_mpa", m);
+                c.finite_upto(|| bp.key("mean_mpa"), "mean_mpa", m, MAX_STRESS_MPA, STRESS_WHY);
             }
         }
         (None, None, Some(hi), Some(lo)) => {
-            c.finite(|| bp().key("max_mpa"), "max_mpa", hi);
-            c.finite(|| bp().key("min_mpa"), "min_mpa", lo);
+            c.finite_upto(|| bp.key("max_mpa"), "max_mpa", hi, MAX_STRESS_MPA, STRESS_WHY);
+            c.finite_upto(|| bp.key("min_mpa"), "min_mpa", lo, MAX_STRESS_MPA, STRESS_WHY);
             if hi.is_finite() && lo.is_finite() && hi <= lo {
                 c.push(
-                    bp().key("max_mpa"),
+                    bp.key("max_mpa"),
                     InputErrorKind::InvalidValue,
-                    format!("max_mpa {hi} must exceed min_mpa {lo}"),
+                    format!("max_mpa {} must exceed min_mpa {}", short_num(hi), short_num(lo)),
                     Some("the range is max_mpa - min_mpa and must be positive".into()),
                 );
             }
         }
         _ => c.push(
-            bp(),
+            bp.clone(),
             InputErrorKind::MissingField,
             "a block needs `range_mpa` (optionally with `mean_mpa`) or both `max_mpa` and `min_mpa`".into(),
             Some("e.g. {range_mpa: 62, cycles: 1} or {max_mpa: 40, min_mpa: -22, cycles: 1}".into()),
         ),
     }
-    c.positive(|| bp().key("cycles"), "cycles", bl.cycles);
+    c.positive_upto(
+        || bp.key("cycles"),
+        "cycles",
+        bl.cycles,
+        MAX_COUNT,
+        COUNT_WHY,
+    );
 }
 
 fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
@@ -668,7 +990,13 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
             "a strain record needs `modulus_mpa`".into(),
             Some("e.g. `modulus_mpa: 210000` for steel".into()),
         ),
-        (_, Some(e)) => c.positive(|| sp.key("modulus_mpa"), "modulus_mpa", e),
+        (_, Some(e)) => c.positive_upto(
+            || sp.key("modulus_mpa"),
+            "modulus_mpa",
+            e,
+            MAX_MODULUS_MPA,
+            "the modulus is in MPa: 210000 for steel",
+        ),
         _ => {}
     }
     if let Some(f) = s.scale {
@@ -678,7 +1006,29 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
         c.positive(|| sp.key("record_hours"), "record_hours", h);
     }
     if let Some(h) = s.hours_per_year {
-        c.positive(|| sp.key("hours_per_year"), "hours_per_year", h);
+        c.positive_upto(
+            || sp.key("hours_per_year"),
+            "hours_per_year",
+            h,
+            MAX_HOURS_PER_YEAR,
+            "a year has 8784 hours at most (366 days of 24 hours)",
+        );
+    }
+    c.text_len(
+        || sp.key("file"),
+        "file",
+        &s.file,
+        4096,
+        "give a path of ordinary length",
+    );
+    if let ColumnSelector::Name(n) = &s.column {
+        c.text_len(
+            || sp.key("column"),
+            "column",
+            n,
+            MAX_LINE_CHARS,
+            "name the column as its header does",
+        );
     }
     if s.record_hours.is_some() != s.hours_per_year.is_some() {
         c.push(
@@ -693,13 +1043,42 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
             c.push(
                 sp.key("gate_mpa"),
                 InputErrorKind::InvalidValue,
-                format!("gate_mpa must be zero or positive, got {g}"),
+                format!("gate_mpa must be zero or positive, got {}", short_num(g)),
                 None,
+            );
+        } else if g > 2.0 * MAX_STRESS_MPA {
+            c.push(
+                sp.key("gate_mpa"),
+                InputErrorKind::OutOfRange,
+                format!(
+                    "gate_mpa is {}, above any range a record can hold",
+                    short_num(g)
+                ),
+                Some(STRESS_WHY.into()),
             );
         }
     }
     if let Some(w) = s.bin_width_mpa {
-        c.positive(|| sp.key("bin_width_mpa"), "bin_width_mpa", w);
+        let before = c.problems.len();
+        c.positive_upto(
+            || sp.key("bin_width_mpa"),
+            "bin_width_mpa",
+            w,
+            2.0 * MAX_STRESS_MPA,
+            STRESS_WHY,
+        );
+        if c.problems.len() == before && w < MIN_BIN_WIDTH_MPA {
+            c.push(
+                sp.key("bin_width_mpa"),
+                InputErrorKind::OutOfRange,
+                format!(
+                    "bin_width_mpa {} is finer than the {} MPa accepted",
+                    short_num(w),
+                    short_num(MIN_BIN_WIDTH_MPA)
+                ),
+                Some("strain gauges resolve about 0.2 MPa; finer bins carry no information".into()),
+            );
+        }
     }
     if s.bins == Some(0) {
         c.push(
@@ -708,6 +1087,19 @@ fn check_series(c: &mut Checker, s: &SeriesInput, sp: &YamlPath) {
             "bins must be at least 1".into(),
             None,
         );
+    }
+    for (key, v) in [("bins", s.bins), ("mean_bins", s.mean_bins)] {
+        if v.is_some_and(|n| n > MAX_BINS) {
+            c.push(
+                sp.key(key),
+                InputErrorKind::OutOfRange,
+                format!(
+                    "{key} is {}; at most {MAX_BINS} are accepted",
+                    v.unwrap_or(0)
+                ),
+                Some("a figure cannot show more bins than that".into()),
+            );
+        }
     }
     if s.mean_bins.is_some_and(|n| n < 2) {
         c.push(

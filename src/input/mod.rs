@@ -13,6 +13,10 @@ pub use crate::files::locate::{self, YamlPath};
 pub use crate::files::{
     file_sha256, hex, read_text_limited, sha256_hex, suggest, yaml_error, MAX_INPUT_BYTES,
 };
+pub use check::{
+    FACTOR_RANGE, MAX_BINS, MAX_COUNT, MAX_DESIGN_LIFE_YEARS, MAX_HOURS_PER_YEAR, MAX_MODULUS_MPA,
+    MAX_STRESS_MPA, MAX_THICKNESS_MM, MIN_BIN_WIDTH_MPA,
+};
 pub use schema::*;
 
 /// A project file that parsed and passed every check.
@@ -86,8 +90,12 @@ pub fn parse_project_with(
         .hint("run `seamlife new DIR` for a starter project")
         .into());
     }
-    let mut file: ProjectFile =
-        serde_yaml::from_str(&text).map_err(|e| yaml_error(path, &text, e))?;
+    // Read as a stream of events: a large project is never held as a tree (serde_yaml
+    // keeps every event of the document in memory, about 20 bytes for each byte).
+    crate::files::yaml::check_controls(path, &text)?;
+    let mut file: ProjectFile = crate::files::yamlde::from_str(&text)
+        .map_err(|e| crate::files::located_yaml_error(path, &text, e.to_string(), e.place))?;
+    file.shrink();
     let dir = project_dir(path);
     let yaml_place = |p: YamlPath| match locate::locate(&text, std::slice::from_ref(&p))[0] {
         Some((l, c)) => Location::at(path, l, c),

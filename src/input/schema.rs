@@ -3,7 +3,27 @@
 
 use std::collections::BTreeMap;
 
-use serde::{Deserialize, Serialize};
+use serde::{Deserialize, Deserializer, Serialize};
+
+impl ProjectFile {
+    /// Give back the spare capacity of every list (a list read from YAML grows by
+    /// doubling; a project of 100 000 details would keep about a third of its memory
+    /// unused).
+    pub fn shrink(&mut self) {
+        self.project.revisions.shrink_to_fit();
+        self.details.shrink_to_fit();
+        for d in &mut self.details {
+            for c in [&mut d.normal, &mut d.shear].into_iter().flatten() {
+                c.loading.shrink_to_fit();
+                for ev in &mut c.loading {
+                    if let Some(b) = &mut ev.blocks {
+                        b.shrink_to_fit();
+                    }
+                }
+            }
+        }
+    }
+}
 
 /// The schema version this build reads.
 pub const SCHEMA_VERSION: u32 = 1;
@@ -67,13 +87,18 @@ pub struct Tables {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct ProjectInfo {
+    #[serde(deserialize_with = "text_title")]
     pub title: String,
+    #[serde(deserialize_with = "text_reference")]
     pub reference: String,
+    #[serde(deserialize_with = "text_revision")]
     pub revision: String,
+    #[serde(deserialize_with = "text_prepared_by")]
     pub prepared_by: String,
     #[serde(default)]
     pub checked_by: Option<String>,
     /// ISO date, YYYY-MM-DD.
+    #[serde(deserialize_with = "text_date")]
     pub date: String,
     #[serde(default)]
     pub client: Option<String>,
@@ -89,8 +114,11 @@ pub struct ProjectInfo {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Revision {
+    #[serde(deserialize_with = "text_revision")]
     pub revision: String,
+    #[serde(deserialize_with = "text_date")]
     pub date: String,
+    #[serde(deserialize_with = "text_description")]
     pub description: String,
     #[serde(default)]
     pub by: Option<String>,
@@ -132,6 +160,7 @@ impl Consequence {
 #[serde(deny_unknown_fields)]
 pub struct Basis {
     /// Id of a curve family (a file in joint-classes/).
+    #[serde(deserialize_with = "text_family")]
     pub family: String,
     pub design_life_years: f64,
     pub strategy: Strategy,
@@ -158,6 +187,7 @@ pub struct Basis {
 #[serde(deny_unknown_fields)]
 pub struct Override {
     pub value: f64,
+    #[serde(deserialize_with = "text_reason")]
     pub reason: String,
 }
 
@@ -172,13 +202,16 @@ pub struct Material {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Detail {
+    #[serde(deserialize_with = "text_id")]
     pub id: String,
+    #[serde(deserialize_with = "text_location")]
     pub location: String,
     #[serde(default)]
     pub description: Option<String>,
     /// Key into the family's catalogue; implies categories and corrections.
     #[serde(default)]
     pub detail: Option<String>,
+    #[serde(deserialize_with = "text_material")]
     pub material: String,
     pub thickness_mm: f64,
     /// Toe-to-toe distance L for families whose effective thickness uses it.
@@ -232,6 +265,7 @@ impl Amplitude {
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct LoadEvent {
+    #[serde(deserialize_with = "text_event")]
     pub event: String,
     /// Occurrences of the event per year.
     #[serde(default)]
@@ -239,9 +273,10 @@ pub struct LoadEvent {
     /// Stress blocks of one occurrence.
     #[serde(default)]
     pub blocks: Option<Vec<Block>>,
-    /// A measured or simulated stress history to be counted.
+    /// A measured or simulated stress history to be counted (boxed: most events have
+    /// blocks, and an inline series would triple the size of every event).
     #[serde(default)]
-    pub series: Option<SeriesInput>,
+    pub series: Option<Box<SeriesInput>>,
     /// A history from the histories table (index into the project's table histories);
     /// never read from or written to the project file.
     #[serde(skip)]
@@ -267,6 +302,7 @@ pub struct Block {
 #[serde(deny_unknown_fields)]
 pub struct SeriesInput {
     /// Path relative to the project file.
+    #[serde(deserialize_with = "text_file")]
     pub file: String,
     /// Column header name, or a 1-based column number.
     pub column: ColumnSelector,
@@ -305,11 +341,100 @@ fn yes() -> bool {
     true
 }
 
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(untagged)]
 pub enum ColumnSelector {
     Index(usize),
     Name(String),
+}
+
+impl<'de> Deserialize<'de> for ColumnSelector {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl serde::de::Visitor<'_> for V {
+            type Value = ColumnSelector;
+
+            fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str("a header name, or a column number counted from 1")
+            }
+
+            fn visit_u64<E: serde::de::Error>(self, v: u64) -> Result<ColumnSelector, E> {
+                usize::try_from(v)
+                    .map(ColumnSelector::Index)
+                    .map_err(|_| E::custom(format!("column number {v} is too large")))
+            }
+
+            fn visit_i64<E: serde::de::Error>(self, v: i64) -> Result<ColumnSelector, E> {
+                if v < 1 {
+                    Err(E::custom(format!(
+                        "column numbers start at 1, got {v}; give the header name or a number from 1"
+                    )))
+                } else {
+                    self.visit_u64(v as u64)
+                }
+            }
+
+            fn visit_f64<E: serde::de::Error>(self, v: f64) -> Result<ColumnSelector, E> {
+                Err(E::custom(format!(
+                    "column {v} is not a whole number; give the header name or a number from 1"
+                )))
+            }
+
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<ColumnSelector, E> {
+                Ok(ColumnSelector::Name(v.to_string()))
+            }
+
+            fn visit_bool<E: serde::de::Error>(self, v: bool) -> Result<ColumnSelector, E> {
+                Err(E::custom(format!(
+                    "column `{v}` is neither a header name nor a column number"
+                )))
+            }
+
+            fn visit_unit<E: serde::de::Error>(self) -> Result<ColumnSelector, E> {
+                Err(E::custom(
+                    "column is empty (null); give the header name or a number from 1",
+                ))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// A required text: YAML null (`~`, `null` or nothing) is refused instead of being
+/// read as the text "~"; a quoted "~" stays text. `key` names the field in the message
+/// (the files stage locates it).
+fn text_named<'de, D: Deserializer<'de>>(d: D, key: &str) -> Result<String, D::Error> {
+    match Option::<String>::deserialize(d)? {
+        Some(s) => Ok(s),
+        None => Err(serde::de::Error::custom(format!(
+            "`{key}` {}",
+            crate::files::yaml::NULL_TEXT
+        ))),
+    }
+}
+
+macro_rules! required_texts {
+    ($($f:ident => $key:literal),* $(,)?) => {
+        $(fn $f<'de, D: Deserializer<'de>>(d: D) -> Result<String, D::Error> {
+            text_named(d, $key)
+        })*
+    };
+}
+
+required_texts! {
+    text_title => "title",
+    text_reference => "reference",
+    text_revision => "revision",
+    text_prepared_by => "prepared_by",
+    text_date => "date",
+    text_description => "description",
+    text_family => "family",
+    text_reason => "reason",
+    text_id => "id",
+    text_location => "location",
+    text_material => "material",
+    text_event => "event",
+    text_file => "file",
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]

@@ -53,6 +53,8 @@ pub struct TableData {
     pub details_path: Option<PathBuf>,
     pub stresses_path: Option<PathBuf>,
     pub histories: Vec<TableHistory>,
+    /// Every table file read, resolved.
+    pub paths: Vec<PathBuf>,
     /// The table files read, with their hashes (paths as written in the project file).
     pub files: Vec<SeriesFileInfo>,
     /// Details without any stress or history row (left out of the assessment).
@@ -839,6 +841,7 @@ pub fn read_tables(
         let p = resolve("details", f)?;
         let h = r.read_details(&p)?;
         files.push(file_info(f, h.0, h.1));
+        r.data.paths.push(p.clone());
         r.data.details_path = Some(p);
     } else if t.stresses.is_some() || t.histories.is_some() {
         return Err(InputError::new(
@@ -852,12 +855,14 @@ pub fn read_tables(
         let p = resolve("stresses", f)?;
         let h = r.read_stresses(&p)?;
         files.push(file_info(f, h.0, h.1));
+        r.data.paths.push(p.clone());
         r.data.stresses_path = Some(p);
     }
     if let Some(f) = &t.histories {
         let p = resolve("histories", f)?;
         let h = r.read_histories(&p)?;
         files.push(file_info(f, h.0, h.1));
+        r.data.paths.push(p);
     }
     r.data.files = files;
     r.data.detail_count = r.details.len();

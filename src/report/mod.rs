@@ -31,6 +31,10 @@ pub struct ReportOptions {
     pub typst: Option<PathBuf>,
     /// Fixed creation time (UNIX seconds); default SOURCE_DATE_EPOCH or the project date.
     pub creation_timestamp: Option<i64>,
+    /// Time allowed to typst; default [`typst::DEFAULT_TIMEOUT`].
+    pub timeout: Option<std::time::Duration>,
+    /// The run's inputs, which the PDF and the kept source must not replace.
+    pub inputs: crate::files::write::Inputs,
 }
 
 /// The generated files of one package, before compilation.
@@ -71,14 +75,22 @@ fn days_from_civil(y: i64, m: i64, d: i64) -> i64 {
     era * 146097 + doe - 719468
 }
 
+/// Latest creation time accepted: 9999-12-31T23:59:59Z, the last second a four-digit
+/// year can name (PDF dates have four-digit years, ISO 32000-1 7.9.4, from memory).
+pub const MAX_TIMESTAMP: i64 = 253_402_300_799;
+
 /// The creation time written into the PDF: SOURCE_DATE_EPOCH when set, else the
-/// project date at 00:00 UTC. Never the clock, so two runs give the same bytes.
-pub fn creation_timestamp(r: &Results) -> i64 {
-    if let Some(t) = std::env::var("SOURCE_DATE_EPOCH")
-        .ok()
-        .and_then(|s| s.trim().parse::<i64>().ok())
-    {
-        return t;
+/// project date at 00:00 UTC. Never the clock, so two runs give the same bytes. A
+/// SOURCE_DATE_EPOCH that is not a whole number of seconds from 1970 to 9999 is an
+/// error (the reproducible-builds convention: a malformed value stops the build); an
+/// empty one counts as unset.
+pub fn creation_timestamp(r: &Results) -> Result<i64, Error> {
+    if let Some(raw) = std::env::var_os("SOURCE_DATE_EPOCH") {
+        let text = raw.to_string_lossy();
+        let t = text.trim();
+        if !t.is_empty() {
+            return parse_epoch(t);
+        }
     }
     let p: Vec<i64> = r
         .project
@@ -86,9 +98,32 @@ pub fn creation_timestamp(r: &Results) -> i64 {
         .split('-')
         .filter_map(|x| x.parse().ok())
         .collect();
-    match p.as_slice() {
+    Ok(match p.as_slice() {
         [y, m, d] => days_from_civil(*y, *m, *d) * 86_400,
         _ => 0,
+    })
+}
+
+/// A SOURCE_DATE_EPOCH value: whole seconds from 0 to [`MAX_TIMESTAMP`].
+pub fn parse_epoch(t: &str) -> Result<i64, Error> {
+    let bad = |msg: String| {
+        Error::Input(
+            crate::error::InputError::new(
+                crate::error::InputErrorKind::InvalidValue,
+                crate::error::Location::file(Path::new("SOURCE_DATE_EPOCH")),
+                msg,
+            )
+            .hint("set SOURCE_DATE_EPOCH to whole seconds since 1970-01-01 00:00 UTC (e.g. 1795132800), or unset it to date the PDF by the project date"),
+        )
+    };
+    let shown = crate::files::clip(t);
+    match t.parse::<i64>() {
+        Ok(v) if v < 0 => Err(bad(format!(
+            "{shown} is before 1970-01-01; the PDF creation time must not be negative"
+        ))),
+        Ok(v) if v > MAX_TIMESTAMP => Err(bad(format!("{shown} is after the year 9999"))),
+        Ok(v) => Ok(v),
+        Err(_) => Err(bad(format!("{shown} is not a whole number of seconds"))),
     }
 }
 
@@ -169,17 +204,40 @@ pub fn build_files(r: &Results, template_dir: Option<&Path>) -> Result<BuildFile
 
 /// Produce the PDF package; returns the path written.
 pub fn write_report(r: &Results, opts: &ReportOptions) -> Result<PathBuf, Error> {
+    let c = prepare_report(r, opts)?;
+    let out = c.target().to_path_buf();
+    c.commit()?;
+    Ok(out)
+}
+
+/// Produce the PDF package up to the last step: the PDF waits beside its place until
+/// [`typst::Compiled::commit`], so a caller can still fail (and leave no PDF) after
+/// typesetting.
+pub fn prepare_report(r: &Results, opts: &ReportOptions) -> Result<typst::Compiled, Error> {
+    let ts = match opts.creation_timestamp {
+        Some(t) => t,
+        None => creation_timestamp(r)?,
+    };
     let tool = typst::find(opts.typst.as_deref())?;
     let out = opts
         .output
         .clone()
         .unwrap_or_else(|| PathBuf::from(default_output_name(r)));
+    // Refuse a bad output before the work of typesetting.
+    crate::files::write::check_target(&out, &opts.inputs)?;
     let build = build_files(r, opts.templates.as_deref())?;
-    let ts = opts
-        .creation_timestamp
-        .unwrap_or_else(|| creation_timestamp(r));
-    typst::compile_to(&tool, &build, &out, ts, opts.pdf_a, opts.keep_source)?;
-    Ok(out)
+    if let Some(sig) = crate::files::cleanup::interrupted() {
+        return Err(Error::Interrupted(sig));
+    }
+    let copts = typst::CompileOptions {
+        creation_timestamp: ts,
+        pdf_a: opts.pdf_a,
+        keep_source: opts.keep_source,
+        user_templates: opts.templates.is_some(),
+        timeout: opts.timeout.unwrap_or(typst::DEFAULT_TIMEOUT),
+        inputs: opts.inputs.clone(),
+    };
+    typst::compile(&tool, &build, &out, &copts)
 }
 
 #[cfg(test)]

@@ -259,9 +259,15 @@ pub fn engine(template_dir: Option<&Path>) -> Result<Tera, Error> {
                 .file_name()
                 .map(|n| n.to_string_lossy().into_owned())
                 .unwrap_or_default();
-            let text = std::fs::read_to_string(&p).map_err(|e| Error::Report {
-                message: format!("cannot read template {}: {e}", p.display()),
-                hint: None,
+            let text = crate::files::read_text_bounded(
+                &p,
+                crate::files::MAX_TEMPLATE_BYTES,
+                "template files",
+                "a template is Typst markup of a few kilobytes; put images beside it",
+            )
+            .map_err(|e| Error::Report {
+                message: format!("cannot read template {e}"),
+                hint: e.hint,
             })?;
             match sources.iter_mut().find(|(n, _)| *n == name) {
                 Some(slot) => slot.1 = text,

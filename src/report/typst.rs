@@ -1,11 +1,15 @@
 //! Running the external `typst` program: finding it, checking its version, compiling in
 //! a temporary build folder, and moving the PDF into place only when it succeeded.
 
+use std::io::{Read, Seek, SeekFrom};
 use std::path::{Path, PathBuf};
-use std::process::Command;
+use std::process::{Child, Command, Stdio};
+use std::time::{Duration, Instant};
 
 use super::{BuildFiles, TYPST_VERSION};
-use crate::error::Error;
+use crate::error::{Error, InputError, InputErrorKind, Location};
+use crate::files::cleanup;
+use crate::files::write::{Inputs, PendingFile};
 
 /// Environment variable naming the typst program.
 pub const TYPST_ENV: &str = "SEAMLIFE_TYPST";
@@ -39,7 +43,8 @@ pub fn find(explicit: Option<&Path>) -> Result<TypstTool, Error> {
             _ => PathBuf::from("typst"),
         },
     };
-    let out = Command::new(&program).arg("--version").output().map_err(|e| Error::Tool {
+    let cannot = |e: String| {
+        Error::Tool {
         message: format!(
             "cannot run typst (`{}`): {e}; the PDF package needs typst-cli {TYPST_VERSION}",
             program.display()
@@ -48,8 +53,33 @@ pub fn find(explicit: Option<&Path>) -> Result<TypstTool, Error> {
             "install it with `{}` (or `bash .ci/install-tools`), or point --typst / {TYPST_ENV} at it",
             install_command()
         ),
-    })?;
-    let text = String::from_utf8_lossy(&out.stdout);
+    }
+    };
+    let probe = tempfile::tempfile().map_err(|e| cannot(e.to_string()))?;
+    let mut child = Command::new(&program)
+        .arg("--version")
+        .stdin(Stdio::null())
+        .stdout(Stdio::from(
+            probe.try_clone().map_err(|e| cannot(e.to_string()))?,
+        ))
+        .stderr(Stdio::null())
+        .spawn()
+        .map_err(|e| cannot(e.to_string()))?;
+    match wait_bounded(&mut child, VERSION_TIMEOUT).map_err(|e| cannot(e.to_string()))? {
+        Ended::Exited(_) => {}
+        Ended::Interrupted(sig) => return Err(Error::Interrupted(sig)),
+        Ended::TimedOut => {
+            return Err(cannot(format!(
+                "`--version` gave no answer within {} s",
+                VERSION_TIMEOUT.as_secs()
+            )))
+        }
+    }
+    let mut probe = probe;
+    let mut raw = Vec::new();
+    let _ = probe.seek(SeekFrom::Start(0));
+    let _ = (&mut probe).take(4096).read_to_end(&mut raw);
+    let text = String::from_utf8_lossy(&raw);
     let version = text
         .split_whitespace()
         .nth(1)
@@ -122,8 +152,245 @@ fn explain_failure(stderr: &str, main: &str) -> String {
     msg
 }
 
-/// Compile the build files to `out`. The PDF appears only when typst succeeded; with
-/// `keep_source` the generated source is copied to `<out stem>-typst/` beside it.
+/// How long `typst --version` may take before the program is taken for broken.
+const VERSION_TIMEOUT: Duration = Duration::from_secs(30);
+
+/// Default time allowed to typst for one package (a 1000-detail package takes about
+/// 25 s on a 2-core machine; ten times that and more is generous).
+pub const DEFAULT_TIMEOUT: Duration = Duration::from_secs(600);
+
+/// How often the wait for the child looks at its state, the clock and the signals.
+const POLL: Duration = Duration::from_millis(25);
+
+/// Most of typst's diagnostics kept for a message, bytes (the end is kept).
+const MAX_DIAGNOSTICS: u64 = 64 * 1024;
+
+/// File name of the marker that says a kept-source folder was written by seamlife (and
+/// may be replaced by the next `--keep-source` run).
+pub const KEEP_MARKER: &str = ".seamlife-source";
+
+const KEEP_MARKER_TEXT: &str = "This folder was written by `seamlife report --keep-source`: the Typst source and figures of the package.\nThe next run with --keep-source for the same PDF replaces the whole folder.\n";
+
+/// How a run of the child ended.
+enum Ended {
+    Exited(std::process::ExitStatus),
+    TimedOut,
+    Interrupted(i32),
+}
+
+/// Wait for a child, killing it when `timeout` passes or the run is interrupted.
+fn wait_bounded(child: &mut Child, timeout: Duration) -> std::io::Result<Ended> {
+    let start = Instant::now();
+    loop {
+        if let Some(st) = child.try_wait()? {
+            return Ok(Ended::Exited(st));
+        }
+        if let Some(sig) = cleanup::interrupted() {
+            let _ = child.kill();
+            let _ = child.wait();
+            return Ok(Ended::Interrupted(sig));
+        }
+        if start.elapsed() >= timeout {
+            let _ = child.kill();
+            let _ = child.wait();
+            return Ok(Ended::TimedOut);
+        }
+        std::thread::sleep(POLL);
+    }
+}
+
+/// The last [`MAX_DIAGNOSTICS`] bytes of a file, as text.
+fn tail_text(path: &Path) -> String {
+    let Ok(mut f) = std::fs::File::open(path) else {
+        return String::new();
+    };
+    let len = f.metadata().map(|m| m.len()).unwrap_or(0);
+    if len > MAX_DIAGNOSTICS {
+        let _ = f.seek(SeekFrom::Start(len - MAX_DIAGNOSTICS));
+    }
+    let mut buf = Vec::new();
+    let _ = f.take(MAX_DIAGNOSTICS).read_to_end(&mut buf);
+    String::from_utf8_lossy(&buf).into_owned()
+}
+
+/// How the package is compiled.
+#[derive(Debug, Clone)]
+pub struct CompileOptions {
+    /// Creation time written into the PDF (UNIX seconds).
+    pub creation_timestamp: i64,
+    /// Produce PDF/A-2b.
+    pub pdf_a: bool,
+    /// Keep the generated source in `<out stem>-typst/` beside the PDF.
+    pub keep_source: bool,
+    /// The templates come from the user (`--templates`): a typesetting failure is then
+    /// bad input (exit 2); with the built-in templates it is a fault of seamlife (exit 3).
+    pub user_templates: bool,
+    /// Time allowed to typst.
+    pub timeout: Duration,
+    /// The run's inputs: neither the PDF nor the kept source may replace one.
+    pub inputs: Inputs,
+}
+
+impl Default for CompileOptions {
+    fn default() -> Self {
+        CompileOptions {
+            creation_timestamp: 0,
+            pdf_a: false,
+            keep_source: false,
+            user_templates: false,
+            timeout: DEFAULT_TIMEOUT,
+            inputs: Inputs::new(),
+        }
+    }
+}
+
+/// The kept-source folder of a PDF: `<out stem>-typst/` beside it.
+pub fn keep_dir_for(out: &Path) -> PathBuf {
+    let stem = out
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "package".into());
+    let dir = match out.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    dir.join(format!("{stem}-typst"))
+}
+
+/// Refuse a kept-source folder that exists but was not written by seamlife (it holds no
+/// marker), or that holds one of the run's inputs.
+fn check_keep_dir(keep: &Path, inputs: &Inputs) -> Result<(), Error> {
+    let bad = |msg: String, hint: &str| {
+        Error::Input(
+            InputError::new(InputErrorKind::OutputTarget, Location::file(keep), msg).hint(hint),
+        )
+    };
+    let Ok(meta) = std::fs::symlink_metadata(keep) else {
+        return Ok(());
+    };
+    if !meta.is_dir() {
+        return Err(bad(
+            "exists and is not a folder; --keep-source would replace it".into(),
+            "move it away, or write the PDF under another name (-o)",
+        ));
+    }
+    if !keep.join(KEEP_MARKER).is_file() {
+        return Err(bad(
+            format!("exists and was not written by seamlife (it holds no {KEEP_MARKER}); --keep-source replaces the whole folder, so it is left as it is"),
+            "move or rename the folder, or write the PDF under another name (-o)",
+        ));
+    }
+    if let Some(p) = inputs.inside(keep) {
+        return Err(bad(
+            format!("holds {}, an input of this run", p.display()),
+            "keep the inputs elsewhere, or write the PDF under another name (-o)",
+        ));
+    }
+    Ok(())
+}
+
+/// A kept-source folder built beside its final place, moved there on commit.
+#[derive(Debug)]
+struct PendingDir {
+    tmp: tempfile::TempDir,
+    target: PathBuf,
+    _reg: cleanup::Registered,
+}
+
+impl PendingDir {
+    fn build(keep: &Path, build: &BuildFiles) -> Result<PendingDir, Error> {
+        let parent = match keep.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let tmp = tempfile::Builder::new()
+            .prefix(".seamlife-")
+            .suffix(".typst.part")
+            .tempdir_in(&parent)
+            .map_err(|source| Error::Output {
+                path: keep.to_path_buf(),
+                source,
+            })?;
+        let reg = cleanup::register(tmp.path(), true);
+        write_tree(tmp.path(), build)?;
+        std::fs::write(tmp.path().join(KEEP_MARKER), KEEP_MARKER_TEXT).map_err(|source| {
+            Error::Output {
+                path: keep.to_path_buf(),
+                source,
+            }
+        })?;
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            // The temporary folder is created 0700; a kept folder is an ordinary one.
+            let mode = 0o777 & !crate::files::write::umask();
+            let _ = std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(mode));
+        }
+        Ok(PendingDir {
+            tmp,
+            target: keep.to_path_buf(),
+            _reg: reg,
+        })
+    }
+
+    /// Put the folder in place, replacing an earlier kept folder (checked to be one).
+    fn commit(self) -> Result<(), Error> {
+        let out_err = |source| Error::Output {
+            path: self.target.clone(),
+            source,
+        };
+        let new = self.tmp.keep();
+        let old = if self.target.exists() {
+            let aside = new.with_extension("old");
+            std::fs::rename(&self.target, &aside).map_err(out_err)?;
+            Some(aside)
+        } else {
+            None
+        };
+        if let Err(e) = std::fs::rename(&new, &self.target) {
+            // Put the earlier folder back, and drop the new one.
+            if let Some(a) = &old {
+                let _ = std::fs::rename(a, &self.target);
+            }
+            let _ = std::fs::remove_dir_all(&new);
+            return Err(out_err(e));
+        }
+        if let Some(a) = old {
+            let _ = std::fs::remove_dir_all(a);
+        }
+        Ok(())
+    }
+}
+
+/// A compiled package that is not in place yet: [`Compiled::commit`] moves the PDF (and
+/// the kept source) into place; dropping it leaves everything as it was before the run.
+#[derive(Debug)]
+pub struct Compiled {
+    pdf: PendingFile,
+    keep: Option<PendingDir>,
+}
+
+impl Compiled {
+    /// The PDF's final path.
+    pub fn target(&self) -> &Path {
+        self.pdf.target()
+    }
+
+    /// Move the kept source and then the PDF into place.
+    pub fn commit(self) -> Result<(), Error> {
+        if let Some(sig) = cleanup::interrupted() {
+            return Err(Error::Interrupted(sig));
+        }
+        if let Some(k) = self.keep {
+            k.commit()?;
+        }
+        self.pdf.commit()
+    }
+}
+
+/// Compile the build files to `out` and move the PDF into place. The PDF appears only
+/// when typst succeeded and wrote a PDF; with `keep_source` the generated source is
+/// kept in `<out stem>-typst/` beside it.
 pub fn compile_to(
     tool: &TypstTool,
     build: &BuildFiles,
@@ -132,6 +399,28 @@ pub fn compile_to(
     pdf_a: bool,
     keep_source: bool,
 ) -> Result<(), Error> {
+    let opts = CompileOptions {
+        creation_timestamp,
+        pdf_a,
+        keep_source,
+        ..CompileOptions::default()
+    };
+    compile(tool, build, out, &opts)?.commit()
+}
+
+/// Compile the build files for `out` without touching `out` yet: the PDF waits in a
+/// temporary file beside it until [`Compiled::commit`].
+pub fn compile(
+    tool: &TypstTool,
+    build: &BuildFiles,
+    out: &Path,
+    opts: &CompileOptions,
+) -> Result<Compiled, Error> {
+    let keep = keep_dir_for(out);
+    if opts.keep_source {
+        check_keep_dir(&keep, &opts.inputs)?;
+    }
+    let pdf = PendingFile::new(out, &opts.inputs, ".pdf.part")?;
     let dir = tempfile::Builder::new()
         .prefix("seamlife-build-")
         .tempdir()
@@ -139,67 +428,78 @@ pub fn compile_to(
             path: std::env::temp_dir(),
             source,
         })?;
+    let _reg = cleanup::register(dir.path(), true);
     write_tree(dir.path(), build)?;
-    let out_dir = match out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let tmp = tempfile::Builder::new()
-        .prefix(".seamlife-")
-        .suffix(".pdf.part")
-        .tempfile_in(&out_dir)
-        .map_err(|source| Error::Output {
-            path: out.to_path_buf(),
-            source,
-        })?;
+    let diag = dir.path().join(".typst-diagnostics.txt");
+    let diag_file = std::fs::File::create(&diag).map_err(|source| Error::Output {
+        path: diag.clone(),
+        source,
+    })?;
     let mut cmd = Command::new(&tool.program);
     cmd.arg("compile")
         .arg("--root")
         .arg(dir.path())
         .arg("--ignore-system-fonts")
         .arg("--creation-timestamp")
-        .arg(creation_timestamp.to_string())
+        .arg(opts.creation_timestamp.to_string())
         .arg("--diagnostic-format")
         .arg("human")
         .arg("--format")
         .arg("pdf")
         // Tags multiply the file size (about 5x for a package of detail sheets).
         .arg("--no-pdf-tags");
-    if pdf_a {
+    if opts.pdf_a {
         cmd.arg("--pdf-standard").arg("a-2b");
     }
-    cmd.arg(dir.path().join("main.typ")).arg(tmp.path());
+    cmd.arg(dir.path().join("main.typ")).arg(pdf.path());
     cmd.env_remove("SOURCE_DATE_EPOCH")
         .env_remove("TYPST_FONT_PATHS")
         .env_remove("TYPST_ROOT")
-        .current_dir(dir.path());
-    let res = cmd.output().map_err(|e| Error::Tool {
+        .current_dir(dir.path())
+        .stdin(Stdio::null())
+        .stdout(Stdio::null())
+        .stderr(Stdio::from(diag_file));
+    let mut child = cmd.spawn().map_err(|e| Error::Tool {
         message: format!("cannot run typst: {e}"),
         hint: format!("install it with `{}`", install_command()),
     })?;
-    let keep_dir = || {
-        let stem = out
-            .file_stem()
-            .map(|s| s.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "package".into());
-        out_dir.join(format!("{stem}-typst"))
-    };
-    let keep_tree = |keep: &Path| -> Result<(), Error> {
-        if keep.exists() {
-            std::fs::remove_dir_all(keep).map_err(|source| Error::Output {
-                path: keep.to_path_buf(),
-                source,
-            })?;
+    let ended = wait_bounded(&mut child, opts.timeout).map_err(|e| Error::Tool {
+        message: format!("cannot wait for typst: {e}"),
+        hint: "check the typst program".into(),
+    })?;
+    let status = match ended {
+        Ended::Exited(st) => st,
+        Ended::Interrupted(sig) => return Err(Error::Interrupted(sig)),
+        Ended::TimedOut => {
+            return Err(Error::Tool {
+                message: format!(
+                    "typst did not finish within {} s and was stopped; no PDF was written",
+                    opts.timeout.as_secs()
+                ),
+                hint: "a very large package may need more time: raise --typst-timeout SECONDS"
+                    .into(),
+            })
         }
-        write_tree(keep, build)
     };
-    if !res.status.success() {
+    let fault = |message: String, hint: String| -> Error {
+        if opts.user_templates {
+            Error::Report {
+                message,
+                hint: Some(hint),
+            }
+        } else {
+            Error::Typesetting {
+                message,
+                hint: format!("{hint}; with the built-in templates this is a fault in seamlife, not in the input: please report it with the project file attached"),
+            }
+        }
+    };
+    if !status.success() {
         let mut hint =
             "no PDF was written; rerun with --keep-source to inspect the generated Typst"
                 .to_string();
-        if keep_source {
-            let keep = keep_dir();
-            keep_tree(&keep)?;
+        if opts.keep_source {
+            PendingDir::build(&keep, build)?.commit()?;
             hint = format!(
                 "no PDF was written; the generated Typst is in {}",
                 keep.display()
@@ -211,19 +511,38 @@ pub fn compile_to(
             .find(|(n, _)| n == "main.typ")
             .map(|(_, b)| String::from_utf8_lossy(b).into_owned())
             .unwrap_or_default();
-        let stderr = String::from_utf8_lossy(&res.stderr)
-            .replace(&dir.path().display().to_string(), "<build>");
-        return Err(Error::Report {
-            message: explain_failure(&stderr, &main),
-            hint: Some(hint),
-        });
+        let stderr = tail_text(&diag).replace(&dir.path().display().to_string(), "<build>");
+        return Err(fault(explain_failure(&stderr, &main), hint));
     }
-    tmp.persist(out).map_err(|e| Error::Output {
-        path: out.to_path_buf(),
-        source: e.error,
+    check_pdf(pdf.path()).map_err(|what| {
+        fault(
+            format!(
+                "typst reported success but {what}; the earlier PDF, if any, is left as it was"
+            ),
+            "no PDF was written".into(),
+        )
     })?;
-    if keep_source {
-        keep_tree(&keep_dir())?;
+    let keep = if opts.keep_source {
+        Some(PendingDir::build(&keep, build)?)
+    } else {
+        None
+    };
+    Ok(Compiled { pdf, keep })
+}
+
+/// Whether a file is a PDF: not empty, and starting with the `%PDF-` header
+/// (ISO 32000-1 7.5.2, from memory).
+fn check_pdf(path: &Path) -> Result<(), String> {
+    let mut head = [0u8; 5];
+    let mut f = std::fs::File::open(path).map_err(|e| format!("its output cannot be read: {e}"))?;
+    let len = f.metadata().map(|m| m.len()).unwrap_or(0);
+    if len == 0 {
+        return Err("wrote nothing (an empty file)".into());
     }
-    Ok(())
+    match f.read_exact(&mut head) {
+        Ok(()) if &head == b"%PDF-" => Ok(()),
+        _ => Err(format!(
+            "wrote {len} bytes that are not a PDF (no %PDF- header)"
+        )),
+    }
 }

@@ -12,8 +12,9 @@ pub fn matrix_heatmap(rec: &CountedRecord) -> String {
 /// Class bounds of cycle counts: decades (every second one for wide spans), or 1-2-5
 /// steps when the counts span two decades or less. Returns ascending bounds.
 pub(super) fn cycle_classes(c_lo: f64, c_hi: f64) -> Vec<f64> {
-    let e_lo = c_lo.log10().floor() as i32;
-    let e_hi = (c_hi.log10().floor() as i32 + 1).max(e_lo + 1);
+    // Exponents clamped to those of f64, so that no count makes the lists endless.
+    let e_lo = (c_lo.log10().floor() as i32).clamp(-330, 310);
+    let e_hi = ((c_hi.log10().floor() as i32).clamp(-330, 310) + 1).max(e_lo + 1);
     let span = e_hi - e_lo;
     if span <= 2 {
         let mut b: Vec<f64> = (e_lo..e_hi)

@@ -342,8 +342,13 @@ fn nice_up(v: f64) -> f64 {
 
 /// Values m·10^k with m from `mults` that lie in [lo, hi], ascending.
 fn log_ticks(lo: f64, hi: f64, mults: &[f64]) -> Vec<f64> {
-    let e0 = lo.log10().floor() as i32;
-    let e1 = hi.log10().ceil() as i32;
+    // An axis end that is not a positive finite number has no decades to mark; the
+    // exponents are clamped to those of f64 so the loop always ends.
+    if !(positive(lo) && positive(hi)) || hi < lo {
+        return Vec::new();
+    }
+    let e0 = (lo.log10().floor() as i32).clamp(-330, 310);
+    let e1 = (hi.log10().ceil() as i32).clamp(-330, 310);
     let mut out = Vec::new();
     for e in e0..=e1 {
         for m in mults {
@@ -366,7 +371,9 @@ fn linear_axis(lo: f64, hi: f64, target: usize) -> (f64, f64, Vec<f64>, usize) {
     if b <= a {
         b = a + step;
     }
-    let count = ((b - a) / step).round() as i64;
+    // At most a few hundred ticks, whatever the ends (a span that overflowed to
+    // infinity would otherwise ask for an endless list).
+    let count = (((b - a) / step).round() as i64).clamp(0, 1000);
     let ticks = (0..=count).map(|i| a + i as f64 * step).collect();
     let dp = if step >= 1.0 {
         0
