@@ -7,6 +7,9 @@ use crate::error::{Error, EXIT_PASS};
 
 pub(super) fn run(file: &Path, library: &Library) -> Result<i32, Error> {
     let project = crate::input::load_project(file, library)?;
+    for w in crate::report::glyphs::warnings(file, &project.text) {
+        eprintln!("{w}");
+    }
     println!(
         "ok: {} — {} details, family {}, schema version {}",
         file.display(),

@@ -32,6 +32,9 @@ pub struct ReportArgs {
 
 pub(super) fn run(a: &ReportArgs, library: &Library) -> Result<i32, Error> {
     let results = crate::run_project(&a.file, library)?;
+    for w in crate::report::glyphs::warnings(&a.file, &results.input.text) {
+        eprintln!("{w}");
+    }
     let opts = crate::report::ReportOptions {
         output: a.output.clone(),
         templates: a.templates.clone(),
