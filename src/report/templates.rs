@@ -15,6 +15,10 @@ pub const BUILT_IN: &[(&str, &str)] = &[
         include_str!("../../templates/package.typ.tera"),
     ),
     (
+        "helpers.typ.tera",
+        include_str!("../../templates/helpers.typ.tera"),
+    ),
+    (
         "style.typ.tera",
         include_str!("../../templates/style.typ.tera"),
     ),
