@@ -297,11 +297,16 @@ fn a_gate_that_removes_every_cycle_warns() {
     );
     let (code, out, _) = run_in(d, &["assess", "p.yaml", "--json"]);
     assert_eq!(code, 0);
-    assert!(out.contains("\"code\": \"gate-removes-all-cycles\""), "{out}");
+    assert!(
+        out.contains("\"code\": \"gate-removes-all-cycles\""),
+        "{out}"
+    );
     let (code, _, err) = run_in(d, &["lint", "p.yaml"]);
     assert_eq!(code, 0, "{err}");
     assert!(
-        err.contains("warning: M1: the hysteresis gate of 10 MPa removes every cycle of series `small.csv`"),
+        err.contains(
+            "warning: M1: the hysteresis gate of 10 MPa removes every cycle of series `small.csv`"
+        ),
         "{err}"
     );
     // a gate below the ranges says nothing

@@ -2,74 +2,10 @@
 //! escaping of hostile text, failure modes. Needs typst and pdftotext
 //! (`bash .ci/install-tools` installs both).
 
-use assert_cmd::Command;
-use std::path::{Path, PathBuf};
-use std::process::Command as Proc;
+mod pdf;
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn seamlife() -> Command {
-    Command::cargo_bin("seamlife").unwrap()
-}
-
-/// Render `project` to `out`; returns (exit code, stdout, stderr).
-fn render(project: &Path, out: &Path, extra: &[&str]) -> (i32, String, String) {
-    let o = seamlife()
-        .arg("report")
-        .arg(project)
-        .arg("-o")
-        .arg(out)
-        .args(extra)
-        .output()
-        .unwrap();
-    (
-        o.status.code().unwrap(),
-        String::from_utf8_lossy(&o.stdout).into_owned(),
-        String::from_utf8_lossy(&o.stderr).into_owned(),
-    )
-}
-
-/// Text of each page (pdftotext separates pages by form feeds).
-fn pages(pdf: &Path) -> Vec<String> {
-    pages_with(pdf, "-layout")
-}
-
-/// Page text in content-stream order (keeps a wrapped table cell together).
-fn pages_raw(pdf: &Path) -> Vec<String> {
-    pages_with(pdf, "-raw")
-}
-
-fn pages_with(pdf: &Path, mode: &str) -> Vec<String> {
-    let o = Proc::new("pdftotext")
-        .args([mode, "-enc", "UTF-8"])
-        .arg(pdf)
-        .arg("-")
-        .output()
-        .expect("pdftotext is needed: run `bash .ci/install-tools`");
-    assert!(o.status.success());
-    let text = String::from_utf8(o.stdout).unwrap();
-    let mut p: Vec<String> = text.split('\u{c}').map(|s| s.to_string()).collect();
-    if p.last().is_some_and(|s| s.trim().is_empty()) {
-        p.pop();
-    }
-    p
-}
-
-fn json_results(project: &Path) -> serde_json::Value {
-    let o = seamlife()
-        .arg("assess")
-        .arg(project)
-        .arg("--json")
-        .output()
-        .unwrap();
-    serde_json::from_slice(&o.stdout).unwrap()
-}
-
-fn squash(s: &str) -> String {
-    s.split_whitespace().collect::<Vec<_>>().join(" ")
-}
+use pdf::*;
+use std::path::Path;
 
 fn check_package(project: &Path) {
     let dir = tempfile::tempdir().unwrap();

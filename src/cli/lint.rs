@@ -4,12 +4,18 @@
 
 use std::path::Path;
 
-use super::output::print_text;
+use super::output::{print_err, print_text};
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_PASS};
 
 pub(super) fn run(file: &Path, library: &Library) -> Result<i32, Error> {
     let project = crate::input::load_project(file, library)?;
+    for w in crate::report::glyphs::warnings(file, &project.text) {
+        print_err(&format!("{w}\n"));
+    }
+    for w in &project.warnings {
+        print_err(&format!("warning: {}\n", w.message));
+    }
     let histories = crate::histories::build(&project)?;
     super::print_notes(&histories.notes);
     let series = histories.series_files.len();

@@ -38,6 +38,9 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
     let run = crate::run_project_checked(&a.file, library)?;
     let inputs = super::run_inputs(&run, jc, a.templates.as_deref());
     let results = &run.results;
+    for w in crate::report::glyphs::warnings(&a.file, &results.input.text) {
+        super::output::print_err(&format!("{w}\n"));
+    }
     let opts = crate::report::ReportOptions {
         output: a.output.clone(),
         templates: a.templates.clone(),

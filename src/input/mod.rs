@@ -1,7 +1,7 @@
 //! Input stage: read a project file, parse it against the schema, and check it against
 //! the curve family before anything is computed.
 
-mod check;
+pub mod check;
 pub mod schema;
 pub mod tables;
 

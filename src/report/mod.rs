@@ -2,6 +2,8 @@
 //! render Typst source, plots are SVG written in Rust, and the external `typst` program
 //! compiles the PDF inside a temporary build folder.
 
+mod glyph_ranges;
+pub mod glyphs;
 pub mod plots;
 pub mod templates;
 pub mod typst;

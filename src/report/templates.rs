@@ -15,6 +15,10 @@ pub const BUILT_IN: &[(&str, &str)] = &[
         include_str!("../../templates/package.typ.tera"),
     ),
     (
+        "helpers.typ.tera",
+        include_str!("../../templates/helpers.typ.tera"),
+    ),
+    (
         "style.typ.tera",
         include_str!("../../templates/style.typ.tera"),
     ),
@@ -47,13 +51,117 @@ pub const BUILT_IN: &[(&str, &str)] = &[
 /// The entry template.
 pub const ENTRY: &str = "package.typ.tera";
 
+/// A run of non-space characters longer than this gets extra line-break opportunities,
+/// so an id, a reference or a file name without spaces wraps instead of running out of
+/// its column. Ordinary words are shorter and are never split. The filters take
+/// `run=N` for a narrow column of ids or dates, where a shorter run may break.
+pub const LONG_RUN: usize = 20;
+/// Within a long run, a break is allowed at least every this many characters.
+const RUN_PIECE: usize = 10;
+
+/// After these a long run may break (separators of ids, paths and references).
+fn is_separator(c: char) -> bool {
+    matches!(
+        c,
+        '-' | '_'
+            | '/'
+            | '\\'
+            | '.'
+            | ':'
+            | ','
+            | ';'
+            | '|'
+            | '+'
+            | '='
+            | '&'
+            | '?'
+            | ')'
+            | ']'
+            | '}'
+    )
+}
+
+/// Marks that belong to the character before them: never break in front of one.
+fn joins_previous(c: char) -> bool {
+    matches!(c as u32,
+        0x0300..=0x036F | 0x200D | 0xFE00..=0xFE0F | 0x1F3FB..=0x1F3FF | 0xE0020..=0xE007F)
+}
+
+/// Split `s` into pieces between which a line may break: only runs of more than
+/// `long_run` non-space characters are cut, after a separator or every [`RUN_PIECE`]
+/// (at most `long_run`) characters. Joining the pieces gives `s` back.
+pub fn break_pieces(s: &str, long_run: usize) -> Vec<&str> {
+    let long_run = long_run.max(4);
+    let piece = RUN_PIECE.min(long_run);
+    let chars: Vec<(usize, char)> = s.char_indices().collect();
+    let mut cuts: Vec<usize> = Vec::new();
+    let mut i = 0;
+    while i < chars.len() {
+        if chars[i].1.is_whitespace() {
+            i += 1;
+            continue;
+        }
+        let start = i;
+        while i < chars.len() && !chars[i].1.is_whitespace() {
+            i += 1;
+        }
+        if i - start <= long_run {
+            continue;
+        }
+        let mut since = 0;
+        for k in start..i - 1 {
+            since += 1;
+            let next = chars[k + 1].1;
+            // No cut that would leave one or two characters alone at the run's end.
+            let by_length = since >= piece && i - (k + 1) >= 3;
+            if (is_separator(chars[k].1) || by_length) && !joins_previous(next) {
+                cuts.push(chars[k + 1].0);
+                since = 0;
+            }
+        }
+    }
+    let mut pieces = Vec::with_capacity(cuts.len() + 1);
+    let mut from = 0;
+    for c in cuts {
+        pieces.push(&s[from..c]);
+        from = c;
+    }
+    pieces.push(&s[from..]);
+    pieces
+}
+
+/// Typst markup between two pieces of a long run: an empty box, which is a line-break
+/// opportunity that adds no character to the PDF's text (copying gives the run whole).
+const BREAK: &str = "#box();";
+
 /// Escape text for Typst markup: the text becomes a string literal shown verbatim, so
-/// nothing in it (`# [ ] $ * _ @ < > \ //` …) is evaluated.
+/// nothing in it (`# [ ] $ * _ @ < > \ //` …) is evaluated. Long runs without spaces
+/// get line-break opportunities ([`break_pieces`] with [`LONG_RUN`]).
 pub fn typst_markup(s: &str) -> String {
-    let mut out = String::with_capacity(s.len() + 4);
-    out.push_str("#\"");
-    push_string_body(&mut out, s);
-    out.push_str("\";");
+    typst_markup_run(s, LONG_RUN)
+}
+
+/// [`typst_markup`] with runs over `long_run` characters made breakable.
+pub fn typst_markup_run(s: &str, long_run: usize) -> String {
+    pieces_as(s, long_run, "#\"", "\";")
+}
+
+/// Text set as inline code (`#raw`), escaped like [`typst_markup`] and breakable the same way.
+pub fn typst_raw(s: &str, long_run: usize) -> String {
+    pieces_as(s, long_run, "#raw(\"", "\");")
+}
+
+/// Each piece of `s` as an escaped string between `open` and `close`, joined by [`BREAK`].
+fn pieces_as(s: &str, long_run: usize, open: &str, close: &str) -> String {
+    let mut out = String::with_capacity(s.len() + 8);
+    for (i, piece) in break_pieces(s, long_run).into_iter().enumerate() {
+        if i > 0 {
+            out.push_str(BREAK);
+        }
+        out.push_str(open);
+        push_string_body(&mut out, piece);
+        out.push_str(close);
+    }
     out
 }
 
@@ -162,8 +270,14 @@ fn as_f64(v: &Value) -> Option<f64> {
     v.as_f64()
 }
 
-fn filter_typst(v: &Value, _: &HashMap<String, Value>) -> tera::Result<Value> {
-    Ok(Value::String(typst_markup(&value_text(v))))
+fn filter_typst(v: &Value, args: &HashMap<String, Value>) -> tera::Result<Value> {
+    let run = arg_usize(args, "run", LONG_RUN);
+    Ok(Value::String(typst_markup_run(&value_text(v), run)))
+}
+
+fn filter_typst_raw(v: &Value, args: &HashMap<String, Value>) -> tera::Result<Value> {
+    let run = arg_usize(args, "run", LONG_RUN);
+    Ok(Value::String(typst_raw(&value_text(v), run)))
 }
 
 fn filter_typst_str(v: &Value, _: &HashMap<String, Value>) -> tera::Result<Value> {
@@ -236,6 +350,51 @@ fn filter_life(v: &Value, _: &HashMap<String, Value>) -> tera::Result<Value> {
     }))
 }
 
+/// A text file as a listing: each line numbered; a line longer than `width` characters
+/// (number included) continues on following lines marked `↪`, so a wrapped line is
+/// never mistaken for a line of the file (indentation matters in YAML). A line is cut
+/// after a space near the end of the room when there is one, else at the room's end;
+/// the pieces of a line joined give it back.
+pub fn listing(text: &str, width: usize) -> String {
+    let lines: Vec<&str> = text.lines().collect();
+    let digits = lines.len().max(1).to_string().len();
+    let gutter = digits + 2;
+    let room = width.saturating_sub(gutter).max(16);
+    let mut out = String::with_capacity(text.len() + lines.len() * (gutter + 1));
+    for (i, line) in lines.iter().enumerate() {
+        let chars: Vec<char> = line.trim_end_matches('\r').chars().collect();
+        let mut rest: &[char] = &chars;
+        let mut first = true;
+        loop {
+            let mut take = rest.len().min(room);
+            if take < rest.len() {
+                // after the last space in the final third of the room, if any
+                if let Some(sp) = rest[room * 2 / 3..room].iter().rposition(|c| *c == ' ') {
+                    take = room * 2 / 3 + sp + 1;
+                }
+            }
+            if first {
+                out.push_str(&format!("{:>digits$}  ", i + 1));
+            } else {
+                out.push_str(&format!("{:>digits$}  ", "↪"));
+            }
+            out.extend(&rest[..take]);
+            out.push('\n');
+            rest = &rest[take..];
+            first = false;
+            if rest.is_empty() {
+                break;
+            }
+        }
+    }
+    out
+}
+
+fn filter_listing(v: &Value, args: &HashMap<String, Value>) -> tera::Result<Value> {
+    let width = arg_usize(args, "width", 120);
+    Ok(Value::String(listing(&value_text(v), width)))
+}
+
 /// Build the template set: built-ins, then the override folder's `*.tera` files.
 pub fn engine(template_dir: Option<&Path>) -> Result<Tera, Error> {
     let mut tera = Tera::default();
@@ -293,6 +452,8 @@ pub fn engine(template_dir: Option<&Path>) -> Result<Tera, Error> {
     })?;
     tera.register_filter("typst", filter_typst);
     tera.register_filter("typst_str", filter_typst_str);
+    tera.register_filter("typst_raw", filter_typst_raw);
+    tera.register_filter("listing", filter_listing);
     tera.register_filter("fixed", filter_fixed);
     tera.register_filter("num", filter_num);
     tera.register_filter("sci", filter_sci);
@@ -334,6 +495,51 @@ mod tests {
         assert_eq!(typst_markup(r#"a"b\c"#), r#"#"a\"b\\c";"#);
         assert_eq!(typst_markup("x\ny"), "#\"x\\ny\";");
         assert_eq!(typst_string("#[x]"), "\"#[x]\"");
+        assert_eq!(typst_raw("a-b", LONG_RUN), "#raw(\"a-b\");");
+    }
+
+    #[test]
+    fn listing_numbers_lines_and_marks_continuations() {
+        let text = format!("a: 1\nb: {}\n\nc: x\nd: aaaa bbbbbbb cc dd", "y".repeat(30));
+        // width 20: a gutter of 1 digit and 2 spaces, then 17 characters of the line;
+        // line 5 is cut after its last space among characters 12 to 17
+        assert_eq!(
+            listing(&text, 20),
+            format!(
+                "1  a: 1\n2  b: {}\n↪  {}\n3  \n4  c: x\n5  d: aaaa bbbbbbb \n↪  cc dd\n",
+                "y".repeat(14),
+                "y".repeat(16)
+            )
+        );
+    }
+
+    #[test]
+    fn long_runs_get_break_opportunities() {
+        // Words and short ids stay whole.
+        let prose = "Bottom-flange transverse butt splice, 3.6 m from support A";
+        assert_eq!(break_pieces(prose, LONG_RUN), vec![prose]);
+        // A run over LONG_RUN characters breaks after separators and every RUN_PIECE.
+        let id = "KB-2231-000000000000000-X";
+        assert_eq!(
+            break_pieces(id, LONG_RUN),
+            vec!["KB-", "2231-", "0000000000", "00000-", "X"]
+        );
+        let p = format!("see {}", "a".repeat(300));
+        let pieces = break_pieces(&p, LONG_RUN);
+        assert_eq!(pieces.concat(), p);
+        assert_eq!(pieces.len(), 30);
+        assert!(pieces.iter().all(|x| x.chars().count() <= RUN_PIECE + 4));
+        // Never between a character and its combining mark.
+        let accents = "e\u{301}".repeat(15);
+        assert!(break_pieces(&accents, LONG_RUN)
+            .iter()
+            .all(|x| !x.starts_with('\u{301}')));
+        // A narrow column of ids: runs over 8 characters break.
+        assert_eq!(break_pieces("RG3W01AB999", 8), vec!["RG3W01AB", "999"]);
+        assert_eq!(
+            typst_markup(&"x".repeat(22)),
+            format!("#\"{}\";#box();#\"{}\";", "x".repeat(10), "x".repeat(12))
+        );
     }
 
     #[test]

@@ -11,7 +11,7 @@ pub fn histogram(rec: &CountedRecord) -> String {
 pub(super) fn draw_histogram(root: &Area, rec: &CountedRecord) -> Drawn {
     let (w, h) = HISTOGRAM_SIZE;
     root.draw_text(
-        &format!("Range histogram of the counted record: {}", rec.event),
+        &record_title("Range histogram of the counted record: ", &rec.event),
         &font(13.0, HPos::Left, VPos::Top),
         (10, 9),
     )?;

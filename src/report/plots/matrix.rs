@@ -61,7 +61,7 @@ pub(super) fn class_of(bounds: &[f64], v: f64) -> usize {
 pub(super) fn draw_heatmap(root: &Area, rec: &CountedRecord) -> Drawn {
     let (w, h) = HEATMAP_SIZE;
     root.draw_text(
-        &format!("Range-mean matrix of the counted record: {}", rec.event),
+        &record_title("Range-mean matrix of the counted record: ", &rec.event),
         &font(13.0, HPos::Left, VPos::Top),
         (10, 9),
     )?;

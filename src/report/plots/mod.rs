@@ -65,12 +65,60 @@ use {matrix::*, sn::*, utilisation::*};
 // Shared drawing helpers
 // ---------------------------------------------------------------------------------
 
-/// Where the record comes from and what the count found, one line.
+/// Room for a line of 11 px text across a figure, pixels (the figures are 640 wide
+/// and their text starts 10 px in).
+const LINE_ROOM_PX: f64 = 620.0;
+
+/// Where the record comes from and what the count found, one line that fits the
+/// figure: a long file name or column is cut in the middle with "…" (the package text
+/// above the figure names both in full).
 fn record_line(rec: &CountedRecord) -> String {
-    format!(
-        "{}, column {}: {} samples; per record {} full and {} half cycles",
-        rec.file, rec.column, rec.samples, rec.full_cycles, rec.half_cycles
-    )
+    let line = |file: &str, column: &str| {
+        format!(
+            "{file}, column {column}: {} samples; per record {} full and {} half cycles",
+            rec.samples, rec.full_cycles, rec.half_cycles
+        )
+    };
+    // 10 % margin over the rough width estimate.
+    let fits = |s: &str| f64::from(text_width(s, 11.0)) * 1.1 <= LINE_ROOM_PX;
+    let column = shortened(&rec.column, 24);
+    let file = cut_middle(&rec.file, |f| fits(&line(f, &column)));
+    line(&file, &column)
+}
+
+/// A figure title naming a user text (an event): the text is cut at its end with "…"
+/// so that the title, in 13 px type, fits the figure's width.
+fn record_title(what: &str, name: &str) -> String {
+    let fits = |n: &str| f64::from(text_width(&format!("{what}{n}"), 13.0)) * 1.1 <= LINE_ROOM_PX;
+    format!("{what}{}", cut_end(name, fits))
+}
+
+/// `s` whole when `fits` accepts it, else as long a start of it with "…" as `fits`
+/// allows.
+fn cut_end(s: &str, fits: impl Fn(&str) -> bool) -> String {
+    cut_with_mark(s, false, fits)
+}
+
+/// `s` whole when `fits` accepts it, else its start and end around a "…", as long as
+/// `fits` allows.
+fn cut_middle(s: &str, fits: impl Fn(&str) -> bool) -> String {
+    cut_with_mark(s, true, fits)
+}
+
+fn cut_with_mark(s: &str, middle: bool, fits: impl Fn(&str) -> bool) -> String {
+    if fits(s) {
+        return s.to_string();
+    }
+    let c: Vec<char> = s.chars().collect();
+    for keep in (1..c.len()).rev() {
+        let head = if middle { keep.div_ceil(2) } else { keep };
+        let tail = &c[c.len() - (keep - head)..];
+        let t: String = c[..head].iter().chain(&['…']).chain(tail).collect();
+        if fits(&t) {
+            return t;
+        }
+    }
+    "…".to_string()
 }
 
 fn no_cycles(root: &Area, rec: &CountedRecord, (w, h): (u32, u32)) -> Drawn {
@@ -223,7 +271,10 @@ fn text_width(s: &str, px: f64) -> i32 {
             '⁰' | '¹' | '²' | '³' | '⁴' | '⁵' | '⁶' | '⁷' | '⁸' | '⁹' | '⁻' => {
                 0.32
             }
-            'm' | 'w' | 'M' | 'W' => 0.78,
+            // advance widths of Libertinus Serif Regular (its hmtx table)
+            'W' => 0.95,
+            'M' => 0.84,
+            'm' | 'w' | '…' => 0.78,
             c if c.is_uppercase() => 0.68,
             _ => 0.5,
         })
@@ -587,6 +638,22 @@ fn to_px<DB: DrawingBackend, CT: CoordTranslate<From = Pt>>(
 mod tests {
     use super::*;
     use crate::results::CurvePoint;
+
+    #[test]
+    fn long_file_names_are_cut_in_the_middle() {
+        // Short: whole.
+        assert_eq!(cut_middle("records/sg4.csv", |_| true), "records/sg4.csv");
+        // Long: start and end kept around "…", as much as the test allows.
+        let name = format!("records/{}.csv", "x".repeat(100));
+        let cut = cut_middle(&name, |s| s.chars().count() <= 21);
+        assert_eq!(cut, format!("records/{}…{}.csv", "xx", "xxxxxx"));
+        assert_eq!(cut.chars().count(), 21);
+        assert_eq!(cut_end(&name, |s| s.chars().count() <= 12), "records/xxx…");
+        // A long event name in a figure title is cut to the figure's width.
+        let title = record_title("Range histogram of the counted record: ", &"W".repeat(80));
+        assert!(title.ends_with('…'), "{title}");
+        assert!(f64::from(text_width(&title, 13.0)) * 1.1 <= LINE_ROOM_PX);
+    }
 
     fn knee(cycles: f64, range_mpa: f64, symbol: &str) -> CurvePoint {
         CurvePoint {

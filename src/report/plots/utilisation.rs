@@ -30,6 +30,16 @@ pub(super) const BAR_BOTTOM: u32 = 70;
 /// Room right of the axis for the value and the status words.
 pub(super) const BAR_NOTE_W: u32 = 150;
 pub(super) const BAR_MAX_LABEL_CHARS: usize = 34;
+/// Widest label area, pixels; a longer id is cut with "…" to fit it.
+pub(super) const BAR_MAX_LABEL_W: u32 = 220;
+
+/// `id` cut to at most [`BAR_MAX_LABEL_CHARS`] characters and, with a margin for the
+/// rough width estimate, to the label area, with "…" where it was cut.
+fn bar_label(id: &str, font_px: f64) -> String {
+    // 10 % margin over the estimate; 14 px of the area are the gap to the axis.
+    let fits = |s: &str| f64::from(text_width(s, font_px)) * 1.1 <= f64::from(BAR_MAX_LABEL_W - 14);
+    cut_end(&shortened(id, BAR_MAX_LABEL_CHARS), fits)
+}
 
 impl BarLayout {
     fn new(order: &[&DetailResult]) -> BarLayout {
@@ -39,16 +49,13 @@ impl BarLayout {
             13..=30 => (20, 11.0),
             _ => (13, 10.0),
         };
-        let labels: Vec<String> = order
-            .iter()
-            .map(|d| shortened(&d.id, BAR_MAX_LABEL_CHARS))
-            .collect();
+        let labels: Vec<String> = order.iter().map(|d| bar_label(&d.id, font_px)).collect();
         let widest = labels
             .iter()
             .map(|l| text_width(l, font_px))
             .max()
             .unwrap_or(0);
-        let label_w = (widest as u32 + 14).clamp(60, 220);
+        let label_w = (widest as u32 + 14).clamp(60, BAR_MAX_LABEL_W);
         BarLayout {
             font_px,
             label_w,
@@ -258,4 +265,22 @@ pub(super) fn hatch(root: &Area, (x0, y0, x1, y1): PxBox, gap: i32) -> Drawn {
         d += gap;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bar_labels_fit_the_label_area() {
+        // Short ids and 34 narrow characters are kept whole.
+        assert_eq!(bar_label("RG3-W01", 11.0), "RG3-W01");
+        let narrow = "d".repeat(BAR_MAX_LABEL_CHARS);
+        assert_eq!(bar_label(&narrow, 11.0), narrow);
+        // Wide capitals are cut to the area (about 220 px), marked with "…".
+        let wide = bar_label(&"W".repeat(60), 11.0);
+        assert!(wide.ends_with('…'), "{wide}");
+        assert!(f64::from(text_width(&wide, 11.0)) * 1.1 <= 206.0, "{wide}");
+        assert!(wide.chars().count() > 15, "{wide}");
+    }
 }
