@@ -1,0 +1,3 @@
+//! Deriving a detail category from fatigue tests: the statistics.
+
+pub mod stats;
