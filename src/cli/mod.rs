@@ -4,6 +4,7 @@
 mod assess;
 mod classes;
 mod count;
+mod fit;
 mod lint;
 mod new;
 pub mod output;
@@ -19,6 +20,7 @@ use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_PASS};
 use crate::results::{Results, Status};
 pub use assess::AssessArgs;
 pub use count::{CountArgs, ResidueArg, UnitArg};
+pub use fit::{fit_table, FitArgs, MethodArg, StressArg};
 pub use output::{csv_summary, fmt_life, table, write_atomic};
 pub use report::ReportArgs;
 
@@ -51,6 +53,8 @@ pub enum Command {
     Report(ReportArgs),
     /// Rainflow-count a stress or strain time series (CSV) into a range-mean spectrum.
     Count(CountArgs),
+    /// Derive a detail category from fatigue test results (CSV) and write it as a family extension.
+    Fit(FitArgs),
     /// Check a project file without assessing it.
     Lint {
         /// Project file (YAML).
@@ -123,6 +127,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Assess(a) => assess::run(a, &library),
         Command::Report(a) => report::run(a, &library),
         Command::Count(a) => count::run(a),
+        Command::Fit(a) => fit::run(a, &library),
         Command::Lint { file } => lint::run(file, &library),
         Command::Classes { family } => classes::run(family.as_deref(), &library),
         Command::New { dir } => new::run(dir, &library),

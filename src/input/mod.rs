@@ -12,6 +12,7 @@ pub use crate::files::locate::{self, YamlPath};
 pub use crate::files::{
     file_sha256, hex, read_text_limited, sha256_hex, suggest, yaml_error, MAX_INPUT_BYTES,
 };
+pub(crate) use check::valid_iso_date;
 pub use schema::*;
 
 /// A project file that parsed and passed every check.

@@ -2,6 +2,7 @@
 //! render Typst source, plots are SVG written in Rust, and the external `typst` program
 //! compiles the PDF inside a temporary build folder.
 
+pub mod fit_sheet;
 pub mod plots;
 pub mod templates;
 pub mod typst;
@@ -74,18 +75,18 @@ fn days_from_civil(y: i64, m: i64, d: i64) -> i64 {
 /// The creation time written into the PDF: SOURCE_DATE_EPOCH when set, else the
 /// project date at 00:00 UTC. Never the clock, so two runs give the same bytes.
 pub fn creation_timestamp(r: &Results) -> i64 {
+    creation_timestamp_for(&r.project.date)
+}
+
+/// SOURCE_DATE_EPOCH when set, else the given YYYY-MM-DD date at 00:00 UTC.
+pub fn creation_timestamp_for(date: &str) -> i64 {
     if let Some(t) = std::env::var("SOURCE_DATE_EPOCH")
         .ok()
         .and_then(|s| s.trim().parse::<i64>().ok())
     {
         return t;
     }
-    let p: Vec<i64> = r
-        .project
-        .date
-        .split('-')
-        .filter_map(|x| x.parse().ok())
-        .collect();
+    let p: Vec<i64> = date.split('-').filter_map(|x| x.parse().ok()).collect();
     match p.as_slice() {
         [y, m, d] => days_from_civil(*y, *m, *d) * 86_400,
         _ => 0,

@@ -1,6 +1,6 @@
 //! SVG figures of the calculation package: the S-N diagram of one stress component, the
 //! utilisation chart of all details, and the range histogram and range-mean matrix of a
-//! counted record.
+//! counted record; and the diagram of a fatigue test evaluation.
 //!
 //! Every function is pure: it reads the results model and returns a whole SVG document,
 //! and the same input gives the same bytes. Series are told apart by line style,
@@ -8,6 +8,7 @@
 //! printed in black and white. Text is written as SVG `<text>` in Libertinus Serif, a
 //! font that Typst embeds and uses when it places the figure.
 
+mod fit;
 mod histogram;
 mod matrix;
 mod sn;
@@ -54,6 +55,7 @@ const GRID_MAJOR: RGBColor = RGBColor(180, 180, 180);
 const GRID_MINOR: RGBColor = RGBColor(228, 228, 228);
 const PAPER: RGBColor = RGBColor(255, 255, 255);
 
+pub use fit::{fit_diagram, FIT_SIZE};
 pub use histogram::histogram;
 pub use matrix::matrix_heatmap;
 pub use sn::sn_diagram;
