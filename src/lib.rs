@@ -10,6 +10,7 @@ pub mod catalogue;
 pub mod cli;
 pub mod error;
 pub mod files;
+pub mod fit;
 pub mod histories;
 pub mod input;
 pub mod report;

@@ -4,6 +4,7 @@
 mod assess;
 mod classes;
 mod count;
+mod fit;
 mod lint;
 mod new;
 pub mod output;
@@ -20,6 +21,7 @@ use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_INTERNAL, EXIT_PASS};
 use crate::results::{Results, Status};
 pub use assess::AssessArgs;
 pub use count::{CountArgs, ResidueArg, UnitArg};
+pub use fit::{fit_table, FitArgs, MethodArg, StressArg};
 pub use output::{fmt_life, print_err, print_out, table, write_atomic};
 pub use report::ReportArgs;
 
@@ -52,6 +54,8 @@ pub enum Command {
     Report(ReportArgs),
     /// Rainflow-count a stress or strain time series (CSV) into a range-mean spectrum.
     Count(CountArgs),
+    /// Derive a detail category from fatigue test results (CSV) and write it as a family extension.
+    Fit(FitArgs),
     /// Check a project file without assessing it.
     Lint {
         /// Project file (YAML).
@@ -213,6 +217,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Assess(a) => assess::run(a, &library, jc),
         Command::Report(a) => report::run(a, &library, jc),
         Command::Count(a) => count::run(a),
+        Command::Fit(a) => fit::run(a, &library),
         Command::Lint { file } => lint::run(file, &library),
         Command::Classes { family } => classes::run(family.as_deref(), &library),
         Command::New { dir } => new::run(dir, &library),

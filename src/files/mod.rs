@@ -140,7 +140,8 @@ pub fn read_text_bounded(
     })
 }
 
-fn io_error(path: &Path, e: &std::io::Error) -> InputError {
+/// A located error for a file that cannot be read, with a hint by the kind of failure.
+pub(crate) fn io_error(path: &Path, e: &std::io::Error) -> InputError {
     let hint = match e.kind() {
         std::io::ErrorKind::NotFound => "check the path; it is relative to the current folder",
         std::io::ErrorKind::PermissionDenied => "check the file permissions",

@@ -212,7 +212,8 @@ impl Checker {
     }
 }
 
-fn valid_iso_date(s: &str) -> bool {
+/// A date YYYY-MM-DD with a real month and day (years 1970 to 9999).
+pub(crate) fn valid_iso_date(s: &str) -> bool {
     let b = s.as_bytes();
     if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
         return false;

@@ -13,6 +13,7 @@ pub use crate::files::locate::{self, YamlPath};
 pub use crate::files::{
     file_sha256, hex, read_text_limited, sha256_hex, suggest, yaml_error, MAX_INPUT_BYTES,
 };
+pub(crate) use check::valid_iso_date;
 pub use check::{
     FACTOR_RANGE, MAX_BINS, MAX_COUNT, MAX_DESIGN_LIFE_YEARS, MAX_HOURS_PER_YEAR, MAX_MODULUS_MPA,
     MAX_STRESS_MPA, MAX_THICKNESS_MM, MIN_BIN_WIDTH_MPA,

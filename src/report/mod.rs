@@ -2,6 +2,7 @@
 //! render Typst source, plots are SVG written in Rust, and the external `typst` program
 //! compiles the PDF inside a temporary build folder.
 
+pub mod fit_sheet;
 mod glyph_ranges;
 pub mod glyphs;
 pub mod plots;
@@ -87,6 +88,11 @@ pub const MAX_TIMESTAMP: i64 = 253_402_300_799;
 /// error (the reproducible-builds convention: a malformed value stops the build); an
 /// empty one counts as unset.
 pub fn creation_timestamp(r: &Results) -> Result<i64, Error> {
+    creation_timestamp_for(&r.project.date)
+}
+
+/// SOURCE_DATE_EPOCH when set, else the given YYYY-MM-DD date at 00:00 UTC.
+pub fn creation_timestamp_for(date: &str) -> Result<i64, Error> {
     if let Some(raw) = std::env::var_os("SOURCE_DATE_EPOCH") {
         let text = raw.to_string_lossy();
         let t = text.trim();
@@ -94,12 +100,7 @@ pub fn creation_timestamp(r: &Results) -> Result<i64, Error> {
             return parse_epoch(t);
         }
     }
-    let p: Vec<i64> = r
-        .project
-        .date
-        .split('-')
-        .filter_map(|x| x.parse().ok())
-        .collect();
+    let p: Vec<i64> = date.split('-').filter_map(|x| x.parse().ok()).collect();
     Ok(match p.as_slice() {
         [y, m, d] => days_from_civil(*y, *m, *d) * 86_400,
         _ => 0,

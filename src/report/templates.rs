@@ -46,6 +46,10 @@ pub const BUILT_IN: &[(&str, &str)] = &[
         "appendix.typ.tera",
         include_str!("../../templates/appendix.typ.tera"),
     ),
+    (
+        "fit-sheet.typ.tera",
+        include_str!("../../templates/fit-sheet.typ.tera"),
+    ),
 ];
 
 /// The entry template.

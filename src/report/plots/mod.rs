@@ -1,6 +1,6 @@
 //! SVG figures of the calculation package: the S-N diagram of one stress component, the
 //! utilisation chart of all details, and the range histogram and range-mean matrix of a
-//! counted record.
+//! counted record; and the diagram of a fatigue test evaluation.
 //!
 //! Every function is pure: it reads the results model and returns a whole SVG document,
 //! and the same input gives the same bytes. Series are told apart by line style,
@@ -8,6 +8,7 @@
 //! printed in black and white. Text is written as SVG `<text>` in Libertinus Serif, a
 //! font that Typst embeds and uses when it places the figure.
 
+mod fit;
 mod histogram;
 mod matrix;
 mod sn;
@@ -54,6 +55,7 @@ const GRID_MAJOR: RGBColor = RGBColor(180, 180, 180);
 const GRID_MINOR: RGBColor = RGBColor(228, 228, 228);
 const PAPER: RGBColor = RGBColor(255, 255, 255);
 
+pub use fit::{fit_diagram, FIT_SIZE};
 pub use histogram::histogram;
 pub use matrix::matrix_heatmap;
 pub use sn::sn_diagram;
@@ -621,6 +623,63 @@ fn clip_segment(p0: Pt, p1: Pt, lo: Pt, hi: Pt) -> Option<(Pt, Pt)> {
         (p0.0 + t0 * dx, p0.1 + t0 * dy),
         (p0.0 + t1 * dx, p0.1 + t1 * dy),
     ))
+}
+
+/// The log-log S-N axes shared by the S-N diagram and the test-evaluation diagram:
+/// cycles N to the right in decades, the range up with ticks at `y_major` (MPa), light
+/// grid lines, axis names and a frame round the plot.
+fn sn_axes<'a, 'b>(
+    plot: &'a Area<'b>,
+    (x_lo, x_hi): (f64, f64),
+    (y_lo, y_hi): (f64, f64),
+    y_major: Vec<f64>,
+    y_desc: &str,
+) -> Result<
+    ChartContext<'a, SVGBackend<'b>, impl CoordTranslate<From = Pt>>,
+    DrawingAreaErrorKind<std::io::Error>,
+> {
+    let x_major = log_ticks(x_lo, x_hi, &[1.0]);
+    let x_minor = log_ticks(x_lo, x_hi, &[2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]);
+    let y_minor: Vec<f64> = log_ticks(y_lo, y_hi, &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0])
+        .into_iter()
+        .filter(|v| !y_major.contains(v))
+        .collect();
+    let mut chart = ChartBuilder::on(plot)
+        .margin_top(34)
+        .margin_right(12)
+        .margin_left(4)
+        .margin_bottom(4)
+        .x_label_area_size(42)
+        .y_label_area_size(50)
+        .build_cartesian_2d(
+            (x_lo..x_hi)
+                .log_scale()
+                .with_key_points(x_major)
+                .with_light_points(x_minor),
+            (y_lo..y_hi)
+                .log_scale()
+                .with_key_points(y_major)
+                .with_light_points(y_minor),
+        )?;
+    let x_fmt = |v: &f64| pow10(v.log10().round() as i32);
+    let y_fmt = |v: &f64| fmt_num(*v, 2);
+    chart
+        .configure_mesh()
+        .x_desc("N (cycles)")
+        .y_desc(y_desc)
+        .x_label_formatter(&x_fmt)
+        .y_label_formatter(&y_fmt)
+        .label_style(font(11.0, HPos::Center, VPos::Center))
+        .axis_desc_style(font(12.0, HPos::Center, VPos::Center))
+        .bold_line_style(GRID_MAJOR.stroke_width(1))
+        .light_line_style(GRID_MINOR.stroke_width(1))
+        .axis_style(INK.stroke_width(1))
+        .draw()?;
+    chart.draw_series(std::iter::once(Rectangle::new(
+        [(x_lo, y_lo), (x_hi, y_hi)],
+        INK.stroke_width(1),
+    )))?;
+    Ok(chart)
 }
 
 /// A path in data coordinates as backend pixels, to mark where lines run.

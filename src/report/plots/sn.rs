@@ -177,58 +177,23 @@ pub(super) fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPla
     root.draw_text(&title, &font(13.0, HPos::Left, VPos::Top), (10, 9))?;
 
     let (plot, side) = root.split_horizontally(PLOT_W);
-    let x_major = log_ticks(x_lo, x_hi, &[1.0]);
-    let x_minor = log_ticks(x_lo, x_hi, &[2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]);
     let y_decades = (y_hi / y_lo).log10();
     let y_major = if y_decades <= 3.2 {
         log_ticks(y_lo, y_hi, &[1.0, 2.0, 5.0])
     } else {
         log_ticks(y_lo, y_hi, &[1.0])
     };
-    let y_minor: Vec<f64> = log_ticks(y_lo, y_hi, &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0])
-        .into_iter()
-        .filter(|v| !y_major.contains(v))
-        .collect();
-
-    let mut chart = ChartBuilder::on(&plot)
-        .margin_top(34)
-        .margin_right(12)
-        .margin_left(4)
-        .margin_bottom(4)
-        .x_label_area_size(42)
-        .y_label_area_size(50)
-        .build_cartesian_2d(
-            (x_lo..x_hi)
-                .log_scale()
-                .with_key_points(x_major)
-                .with_light_points(x_minor),
-            (y_lo..y_hi)
-                .log_scale()
-                .with_key_points(y_major)
-                .with_light_points(y_minor),
-        )?;
-    let x_fmt = |v: &f64| pow10(v.log10().round() as i32);
-    let y_fmt = |v: &f64| fmt_num(*v, 2);
-    chart
-        .configure_mesh()
-        .x_desc("N (cycles)")
-        .y_desc(format!("{} (MPa)", c.symbol))
-        .x_label_formatter(&x_fmt)
-        .y_label_formatter(&y_fmt)
-        .label_style(font(11.0, HPos::Center, VPos::Center))
-        .axis_desc_style(font(12.0, HPos::Center, VPos::Center))
-        .bold_line_style(GRID_MAJOR.stroke_width(1))
-        .light_line_style(GRID_MINOR.stroke_width(1))
-        .axis_style(INK.stroke_width(1))
-        .draw()?;
-    chart.draw_series(std::iter::once(Rectangle::new(
-        [(x_lo, y_lo), (x_hi, y_hi)],
-        INK.stroke_width(1),
-    )))?;
+    let mut chart = sn_axes(
+        &plot,
+        plan.x,
+        plan.y,
+        y_major,
+        &format!("{} (MPa)", c.symbol),
+    )?;
 
     let clip = |pts: &[Pt]| clip_log(pts, plan.x, plan.y);
-    let corner_lo = chart.backend_coord(&(x_lo, y_lo));
-    let corner_hi = chart.backend_coord(&(x_hi, y_hi));
+    let corner_lo = chart.as_coord_spec().translate(&(x_lo, y_lo));
+    let corner_hi = chart.as_coord_spec().translate(&(x_hi, y_hi));
     let mut free = Occupancy::new((corner_lo.0, corner_hi.1, corner_hi.0, corner_lo.1));
 
     // Spectrum first, so that the curves lie on top of it.
@@ -288,7 +253,7 @@ pub(super) fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPla
     for s in &plan.steps {
         let p = (s.cycles, s.range);
         if inside(p) {
-            let q = chart.backend_coord(&p);
+            let q = chart.as_coord_spec().translate(&p);
             free.add_box((q.0 - 5, q.1 - 5, q.0 + 5, q.1 + 5));
             marker(root, Marker::Circle { filled: s.damaging }, q)?;
         }
@@ -314,7 +279,7 @@ pub(super) fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPla
     let mut labels: Vec<((i32, i32), String, &[Place])> = Vec::new();
     for (p, label) in points {
         if inside(p) {
-            let q = chart.backend_coord(&p);
+            let q = chart.as_coord_spec().translate(&p);
             free.add_box((q.0 - 4, q.1 - 4, q.0 + 4, q.1 + 4));
             marker(root, Marker::Square, q)?;
             labels.push((q, label, &CURVE_POINT_PLACES));
@@ -326,7 +291,7 @@ pub(super) fn draw_sn(root: &Area, c: &ComponentResult, years: f64, plan: &SnPla
     if positive(c.design_equivalent_range_mpa) {
         let p = (ch.reference_cycles, c.design_equivalent_range_mpa);
         if inside(p) {
-            let q = chart.backend_coord(&p);
+            let q = chart.as_coord_spec().translate(&p);
             free.add_box((q.0 - 6, q.1 - 6, q.0 + 6, q.1 + 6));
             marker(root, Marker::Diamond, q)?;
             let label = format!("{eq_symbol} = {}", fmt_fixed(p.1, 1));
@@ -473,19 +438,19 @@ pub(super) struct Occupancy {
 }
 
 impl Occupancy {
-    fn new(area: PxBox) -> Occupancy {
+    pub(super) fn new(area: PxBox) -> Occupancy {
         Occupancy {
             area,
             boxes: Vec::new(),
         }
     }
 
-    fn add_box(&mut self, b: PxBox) {
+    pub(super) fn add_box(&mut self, b: PxBox) {
         self.boxes.push(b);
     }
 
     /// A polyline in pixels, as small boxes every few pixels along it.
-    fn add_path(&mut self, pts: &[(i32, i32)]) {
+    pub(super) fn add_path(&mut self, pts: &[(i32, i32)]) {
         for w in pts.windows(2) {
             let (a, b) = (w[0], w[1]);
             let len = f64::from((b.0 - a.0).abs().max((b.1 - a.1).abs()));
@@ -502,7 +467,7 @@ impl Occupancy {
     /// The first place for `text` at `anchor` that stays in the area and clear of
     /// everything drawn, else the one with the fewest clashes; the label's box is then
     /// taken.
-    fn place(
+    pub(super) fn place(
         &mut self,
         anchor: (i32, i32),
         text: &str,
