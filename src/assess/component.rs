@@ -176,6 +176,7 @@ fn block_results(
     s: &ComponentSetup,
     gff: f64,
     years: f64,
+    lean: bool,
 ) -> (Vec<BlockResult>, Vec<(f64, f64)>, bool, f64) {
     let mut blocks = Vec::with_capacity(s.history.blocks.len());
     let mut loads = Vec::with_capacity(s.history.blocks.len());
@@ -202,8 +203,13 @@ fn block_results(
             _ => None,
         };
         blocks.push(BlockResult {
-            event: b.event.clone(),
-            origin: b.origin.into(),
+            // a lean result (summary rows only) keeps no block texts
+            event: if lean {
+                String::new()
+            } else {
+                b.event.to_string()
+            },
+            origin: if lean { String::new() } else { b.origin.into() },
             range_mpa: b.range_mpa,
             max_mpa: b.max_mpa,
             min_mpa: b.min_mpa,
@@ -254,14 +260,11 @@ fn damage_sum(
 }
 
 fn knee_symbols(design: &SnCurve) -> Vec<String> {
-    design
-        .to_result()
-        .knees
-        .iter()
-        .enumerate()
-        .map(|(i, k)| {
-            k.symbol
-                .clone()
+    (0..design.knees.len())
+        .map(|i| {
+            design
+                .knee_symbol(i)
+                .map(str::to_string)
                 .unwrap_or_else(|| format!("knee {}", i + 1))
         })
         .collect()
@@ -377,6 +380,7 @@ pub(super) fn assess_component(
     s: &ComponentSetup,
     fy: f64,
     found: &mut Findings,
+    lean: bool,
 ) -> (ComponentResult, Part, bool) {
     let gff = basis.gamma_ff.value;
     let gmf = basis.gamma_mf.value;
@@ -388,7 +392,7 @@ pub(super) fn assess_component(
             Component::Normal => fam.validity.normal_fy_factor,
             Component::Shear => fam.validity.shear_fy_factor,
         };
-    let (mut blocks, loads, acted, max_range) = block_results(s, gff, years);
+    let (mut blocks, loads, acted, max_range) = block_results(s, gff, years, lean);
     let (amplitude, amplitude_basis) = amplitude_of(s, &loads, found);
     let constant_amplitude = amplitude == Amplitude::Constant;
     let ca_ratio = if constant_amplitude {
@@ -405,7 +409,11 @@ pub(super) fn assess_component(
     let (damage, below, bands) = damage_sum(&mut blocks, &cv.design, ca_applied);
     let sym = fam.range_symbol.get(s.comp);
     let knee_syms = knee_symbols(&cv.design);
-    let damage_by_band = band_table(&cv.design, sym, &knee_syms, &bands, below);
+    let damage_by_band = if lean {
+        Vec::new()
+    } else {
+        band_table(&cv.design, sym, &knee_syms, &bands, below)
+    };
     let total_cycles: f64 = blocks.iter().map(|b| b.cycles_design_life).sum();
     if below > 0.0 && !ca_applied {
         found.warn(
@@ -503,8 +511,8 @@ pub(super) fn assess_component(
         gamma_mf: gmf,
         gamma_ff: gff,
         design_category_mpa: cv.design_ref,
-        characteristic_curve: cv.characteristic.to_result(),
-        design_curve: cv.design.to_result(),
+        characteristic_curve: cv.characteristic.to_result_lean(lean),
+        design_curve: cv.design.to_result_lean(lean),
         curve_variant: s
             .curve_variant
             .as_ref()
@@ -542,7 +550,11 @@ pub(super) fn assess_component(
         cycles_below_cut_off: below,
         max_range_mpa: max_range,
         validity_limit_mpa: validity_limit,
-        counted: s.history.counted.clone(),
+        counted: if lean {
+            Vec::new()
+        } else {
+            s.history.counted.clone()
+        },
     };
     let part = Part {
         comp: s.comp,
@@ -550,11 +562,7 @@ pub(super) fn assess_component(
         dlim,
         form,
         source,
-        prepared: Prepared {
-            unit: cv.unit,
-            ca_ratio,
-            loads,
-        },
+        prepared: Prepared::new(&cv.unit, ca_ratio, loads),
         design_ref: cv.design_ref,
         size_factor: s.size.factor,
         range_check,

@@ -92,6 +92,37 @@ impl SnCurve {
         0.0
     }
 
+    /// Symbol of knee `i` (0-based), when the family names it.
+    pub fn knee_symbol(&self, i: usize) -> Option<&str> {
+        self.symbols.get(i).and_then(|s| s.0.as_deref())
+    }
+
+    /// [`SnCurve::to_result`], without the knees' symbols and names when `lean`.
+    pub fn to_result_lean(&self, lean: bool) -> CurveResult {
+        let mut r = CurveResult {
+            reference_cycles: self.reference_cycles,
+            reference_range_mpa: self.reference_range,
+            slopes: self.slopes.clone(),
+            knees: Vec::new(),
+            cut_off: self.cut_off,
+        };
+        if lean {
+            r.knees = self
+                .knees
+                .iter()
+                .map(|&(n, s)| CurvePoint {
+                    cycles: n,
+                    range_mpa: s,
+                    symbol: None,
+                    name: None,
+                })
+                .collect();
+            r
+        } else {
+            self.to_result()
+        }
+    }
+
     pub fn to_result(&self) -> CurveResult {
         CurveResult {
             reference_cycles: self.reference_cycles,

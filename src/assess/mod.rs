@@ -39,6 +39,7 @@ pub struct Engine<'a> {
     histories: &'a ProjectHistories,
     basis: ResolvedBasis,
     interaction: Option<InteractionCheck>,
+    lean: bool,
 }
 
 impl<'a> Engine<'a> {
@@ -56,7 +57,16 @@ impl<'a> Engine<'a> {
             histories,
             basis,
             interaction,
+            lean: false,
         }
+    }
+
+    /// Results for summary rows only (CSV): every number of the details and their
+    /// components, but no blocks, bands, counted records or curve labels. Faster and
+    /// lighter for large projects; not for the JSON model or the package.
+    pub fn lean(mut self) -> Self {
+        self.lean = true;
+        self
     }
 
     /// Number of details in the project.
@@ -70,7 +80,7 @@ impl<'a> Engine<'a> {
 
     /// Assess detail `i` (its spectrum is made here and dropped after).
     pub fn assess_one(&self, i: usize) -> DetailResult {
-        let hist = self.histories.detail(self.project, i);
+        let hist = self.histories.detail_with(self.project, i, !self.lean);
         let mut d = assess_detail(
             &self.project.file,
             self.fam,
@@ -78,6 +88,7 @@ impl<'a> Engine<'a> {
             self.interaction.as_ref(),
             &self.project.file.details[i],
             &hist,
+            self.lean,
         );
         // findings of the signal stage (e.g. a gate that removed every cycle)
         for n in self.histories.notes.iter().filter(|n| n.detail == i) {
@@ -254,6 +265,7 @@ fn assess_detail(
     interaction: Option<&InteractionCheck>,
     det: &Detail,
     hist: &DetailHistory,
+    lean: bool,
 ) -> DetailResult {
     let entry = det.detail.as_ref().and_then(|k| fam.entry(k));
     let fy = file
@@ -267,7 +279,7 @@ fn assess_detail(
     let mut parts = Vec::with_capacity(setups.len());
     let mut outside = false;
     for s in &setups {
-        let (c, p, out) = assess_component(fam, basis, s, fy, &mut found);
+        let (c, p, out) = assess_component(fam, basis, s, fy, &mut found, lean);
         comps.push(c);
         parts.push(p);
         outside |= out;

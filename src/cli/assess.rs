@@ -100,6 +100,8 @@ pub(super) fn run(
         .get(&loaded.project.file.basis.family)
         .ok_or_else(|| Error::Internal("family vanished after the check".into()))?;
     let engine = crate::assess::Engine::new(&loaded.project, family, &loaded.histories);
+    // CSV rows need the numbers only: no blocks, bands or figures' data
+    let engine = if a.csv { engine.lean() } else { engine };
     let total = engine.len();
     let range = match shard {
         Some((k, n)) => shard_range(k, n, total),

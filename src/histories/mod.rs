@@ -8,6 +8,7 @@ pub mod spectrum;
 
 use std::collections::{BTreeMap, HashMap};
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 use crate::catalogue::Component;
 use crate::error::{Error, InputError, InputErrorKind, Location};
@@ -22,7 +23,8 @@ use crate::results::{CountedRecord, SeriesFileInfo};
 /// One stress block with cycles per year.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SpectrumBlock {
-    pub event: String,
+    /// The load event's name (shared by its blocks).
+    pub event: Arc<str>,
     /// `given` or `counted`.
     pub origin: &'static str,
     pub range_mpa: f64,
@@ -111,9 +113,18 @@ impl ProjectHistories {
     /// The spectrum of detail `i` of the project (blocks given, table histories counted
     /// now, series counted at build time).
     pub fn detail(&self, project: &Project, i: usize) -> DetailHistory {
+        self.detail_with(project, i, true)
+    }
+
+    /// [`ProjectHistories::detail`]; without `records`, the counted records' figures
+    /// (histogram, matrix) of table histories are not made and series records not
+    /// copied (the blocks are the same).
+    pub fn detail_with(&self, project: &Project, i: usize, records: bool) -> DetailHistory {
         let d = &project.file.details[i];
         let comp = |c: Component, input: &Option<ComponentInput>| {
-            input.as_ref().map(|ci| self.component(project, i, c, ci))
+            input
+                .as_ref()
+                .map(|ci| self.component(project, i, c, ci, records))
         };
         DetailHistory {
             normal: comp(Component::Normal, &d.normal),
@@ -127,6 +138,7 @@ impl ProjectHistories {
         i: usize,
         comp: Component,
         c: &ComponentInput,
+        records: bool,
     ) -> ComponentHistory {
         let mut h = ComponentHistory::default();
         for (k, ev) in c.loading.iter().enumerate() {
@@ -134,13 +146,14 @@ impl ProjectHistories {
                 given_blocks(ev, blocks, &mut h.blocks);
             }
             if let Some(t) = ev.table_history {
-                let (blocks, rec) = table_history(project, ev, t);
-                h.blocks.extend(blocks);
-                h.counted.push(rec);
+                let rec = table_history(project, ev, t, &mut h.blocks, records);
+                h.counted.extend(rec);
             }
             if let Some(rec) = self.records.get(&(i, comp, k)) {
                 cell_blocks(ev, rec, &mut h.blocks);
-                h.counted.push(rec.clone());
+                if records {
+                    h.counted.push(rec.clone());
+                }
             }
         }
         h
@@ -150,6 +163,7 @@ impl ProjectHistories {
 /// Blocks given in the project file or the stresses table, per year.
 fn given_blocks(ev: &LoadEvent, blocks: &[crate::input::Block], out: &mut Vec<SpectrumBlock>) {
     let per_year = ev.per_year.unwrap_or(1.0);
+    let name: Arc<str> = ev.event.as_str().into();
     for b in blocks {
         let (range, hi, lo) = match (b.range_mpa, b.mean_mpa, b.max_mpa, b.min_mpa) {
             // σmax = σm + Δσ/2, σmin = σm − Δσ/2 (common practice)
@@ -161,7 +175,7 @@ fn given_blocks(ev: &LoadEvent, blocks: &[crate::input::Block], out: &mut Vec<Sp
             _ => continue,
         };
         out.push(SpectrumBlock {
-            event: ev.event.clone(),
+            event: name.clone(),
             origin: "given",
             range_mpa: range,
             max_mpa: hi,
@@ -173,6 +187,7 @@ fn given_blocks(ev: &LoadEvent, blocks: &[crate::input::Block], out: &mut Vec<Sp
 
 /// The cells of a counted series' range-mean matrix as blocks.
 fn cell_blocks(ev: &LoadEvent, rec: &CountedRecord, out: &mut Vec<SpectrumBlock>) {
+    let name: Arc<str> = ev.event.as_str().into();
     for cell in &rec.matrix {
         // Each cell is one block: its largest range and weighted mean, so every
         // counted cycle is represented at or above its own range.
@@ -181,7 +196,7 @@ fn cell_blocks(ev: &LoadEvent, rec: &CountedRecord, out: &mut Vec<SpectrumBlock>
             continue;
         }
         out.push(SpectrumBlock {
-            event: ev.event.clone(),
+            event: name.clone(),
             origin: "counted",
             range_mpa: r,
             max_mpa: Some(cell.mean_mpa + 0.5 * r),
@@ -268,7 +283,9 @@ fn table_history(
     project: &Project,
     ev: &LoadEvent,
     index: usize,
-) -> (Vec<SpectrumBlock>, CountedRecord) {
+    out: &mut Vec<SpectrumBlock>,
+    records: bool,
+) -> Option<CountedRecord> {
     use crate::histories::rainflow::{count_slice, ResidueMode};
     let h = &project.tables.histories[index];
     let opts = project.file.tables.as_ref();
@@ -279,19 +296,21 @@ fn table_history(
     };
     let gate = opts.and_then(|t| t.histories_gate_mpa).unwrap_or(0.0);
     let per_year = ev.per_year.unwrap_or(1.0);
-    let mut cycles = Vec::new();
-    let stats = count_slice(&h.samples, gate, mode, &mut |c| cycles.push(c));
-    let mut spec = Spectrum::new(SpectrumSpec {
-        range: BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
-        mean: BinRule::MaxBins(DEFAULT_MEAN_BINS as usize),
-    })
-    .expect("default bin rules are valid");
-    let mut blocks = Vec::with_capacity(cycles.len());
-    for c in &cycles {
-        spec.add(c);
+    let name: Arc<str> = ev.event.as_str().into();
+    let mut spec = records.then(|| {
+        Spectrum::new(SpectrumSpec {
+            range: BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
+            mean: BinRule::MaxBins(DEFAULT_MEAN_BINS as usize),
+        })
+        .expect("default bin rules are valid")
+    });
+    let stats = count_slice(&h.samples(&project.tables), gate, mode, &mut |c| {
+        if let Some(s) = &mut spec {
+            s.add(&c);
+        }
         if c.range > 0.0 {
-            blocks.push(SpectrumBlock {
-                event: ev.event.clone(),
+            out.push(SpectrumBlock {
+                event: name.clone(),
                 origin: "counted",
                 range_mpa: c.range,
                 max_mpa: Some(c.max),
@@ -299,11 +318,13 @@ fn table_history(
                 cycles_per_year: c.count * per_year,
             });
         }
-    }
-    let n = h.samples.len() as f64;
+    });
+    let spec = spec?;
+    let samples = h.samples(&project.tables);
+    let n = samples.len() as f64;
     // mean and standard deviation of the samples (common practice)
-    let mean = h.samples.iter().sum::<f64>() / n.max(1.0);
-    let var = h.samples.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n.max(1.0);
+    let mean = samples.iter().sum::<f64>() / n.max(1.0);
+    let var = samples.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n.max(1.0);
     let table = project
         .file
         .tables
@@ -338,7 +359,7 @@ fn table_history(
         matrix: spec.matrix(),
         per_cycle: true,
     };
-    (blocks, rec)
+    Some(rec)
 }
 
 /// Resolve a series path against the project folder, refusing one that leaves it

@@ -34,10 +34,26 @@ pub struct TableHistory {
     pub component: Component,
     /// Index of the event in the project's `events`.
     pub event: usize,
-    /// Stress samples in MPa, in time order.
-    pub samples: Vec<f64>,
+    /// Where its stress samples (MPa, time order) lie in [`TableData::samples`]: one
+    /// run when the history's rows are together in the table, more when they are not.
+    pub runs: Vec<std::ops::Range<usize>>,
     /// Line of the history's first row.
     pub line: u64,
+}
+
+impl TableHistory {
+    /// The history's samples in time order.
+    pub fn samples<'a>(&self, data: &'a TableData) -> std::borrow::Cow<'a, [f64]> {
+        match self.runs.as_slice() {
+            [] => std::borrow::Cow::Borrowed(&[]),
+            [one] => std::borrow::Cow::Borrowed(&data.samples[one.clone()]),
+            many => std::borrow::Cow::Owned(
+                many.iter()
+                    .flat_map(|r| data.samples[r.clone()].iter().copied())
+                    .collect(),
+            ),
+        }
+    }
 }
 
 /// What the tables added to a project, and how to find a table detail's rows again.
@@ -53,6 +69,8 @@ pub struct TableData {
     pub details_path: Option<PathBuf>,
     pub stresses_path: Option<PathBuf>,
     pub histories: Vec<TableHistory>,
+    /// The samples of every history, one after another.
+    pub samples: Vec<f64>,
     /// Every table file read, resolved.
     pub paths: Vec<PathBuf>,
     /// The table files read, with their hashes (paths as written in the project file).
@@ -731,7 +749,7 @@ impl<'a> Reader<'a> {
                                 detail: d,
                                 component: comp,
                                 event: e,
-                                samples: Vec::new(),
+                                runs: Vec::new(),
                                 line: row.line,
                             });
                             index.insert((d, comp as u8, e), h);
@@ -763,7 +781,15 @@ impl<'a> Reader<'a> {
                 .ok()
                 .and_then(|t| t.parse::<f64>().ok());
             match v {
-                Some(v) if v.is_finite() => self.data.histories[h].samples.push(v),
+                Some(v) if v.is_finite() => {
+                    let at = self.data.samples.len();
+                    self.data.samples.push(v);
+                    let runs = &mut self.data.histories[h].runs;
+                    match runs.last_mut() {
+                        Some(r) if r.end == at => r.end = at + 1,
+                        _ => runs.push(at..at + 1),
+                    }
+                }
                 _ => {
                     let id =
                         &self.details[self.data.histories[h].detail - self.data.first_detail].id;
