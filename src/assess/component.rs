@@ -310,6 +310,15 @@ fn band_table(
     damage_by_band
 }
 
+/// A descriptive text, left empty in a lean result (summary rows need only numbers).
+fn text(lean: bool, f: impl FnOnce() -> String) -> String {
+    if lean {
+        String::new()
+    } else {
+        f()
+    }
+}
+
 /// Constant or variable amplitude, and why: the engineer's statement, else what the
 /// blocks show. A counted record is always variable amplitude.
 fn amplitude_of(
@@ -466,12 +475,13 @@ pub(super) fn assess_component(
         );
     }
     let (form, dlim, source) = if constant_amplitude {
-        basis.constant_amplitude.clone()
+        let (f, d, s) = &basis.constant_amplitude;
+        (*f, *d, text(lean, || s.clone()))
     } else {
         (
             basis.check_form,
             basis.damage_limit.value,
-            basis.check_source.clone(),
+            text(lean, || basis.check_source.clone()),
         )
     };
     let range_check = match form {
@@ -489,21 +499,29 @@ pub(super) fn assess_component(
     let design_equivalent = cv.design_ref * u.powf(1.0 / m1);
     let result = ComponentResult {
         component: s.comp.as_str().into(),
-        symbol: sym.clone(),
-        category_symbol: fam.category_symbol.get(s.comp).clone(),
+        symbol: text(lean, || sym.clone()),
+        category_symbol: text(lean, || fam.category_symbol.get(s.comp).clone()),
         category_mpa: s.category,
         category_source: s.category_source.clone(),
         catalogue_category_mpa: s.catalogue_category,
-        size: s.size.clone(),
+        size: if lean {
+            SizeCorrection {
+                source: String::new(),
+                exponent_from: String::new(),
+                ..s.size.clone()
+            }
+        } else {
+            s.size.clone()
+        },
         mean_stress: MeanStressCorrection {
             case: s.case_key.clone(),
-            case_name: s.case.name.clone(),
+            case_name: text(lean, || s.case.name.clone()),
             rule: if s.case.compressive_fraction.is_some() {
                 "compressive-fraction".into()
             } else {
                 "enhancement".into()
             },
-            source: fam.mean_stress.source.clone(),
+            source: text(lean, || fam.mean_stress.source.clone()),
             applies: s.comp == Component::Normal,
             acted,
         },
@@ -516,7 +534,7 @@ pub(super) fn assess_component(
         curve_variant: s
             .curve_variant
             .as_ref()
-            .filter(|v| fam.curves.get(s.comp).variants.contains_key(*v))
+            .filter(|v| !lean && fam.curves.get(s.comp).variants.contains_key(*v))
             .map(|v| CurveVariantUsed {
                 name: v.clone(),
                 description: fam.curves.get(s.comp).variants[v].name.clone(),

@@ -226,18 +226,71 @@ pub(super) fn sup_passing(f: impl Fn(f64) -> f64) -> Option<f64> {
             }
         }
     }
+    // Narrow [lo, hi] (f(lo) <= 1 < f(hi)) by interpolation on log f over log x, where
+    // a damage sum on one curve segment is a straight line, so that a step usually
+    // lands on the limit; each landing is tried a hair beyond it to close the bracket.
+    // Where f(lo) is 0 (below a cut-off or constant-amplitude limit) or the step would
+    // leave the bracket, it halves the bracket on log x instead.
+    let mut flo = f(lo);
+    let mut fhi = f(hi);
+    // which end the last steps moved: after two on the same side, halve (regula falsi
+    // alone can creep toward the root from one side on a curved function)
+    let mut same_side = 0;
+    let mut last_low = false;
     for _ in 0..200 {
-        let mid = (lo * hi).sqrt();
-        if mid <= lo || mid >= hi {
-            break;
-        }
-        if f(mid) <= 1.0 {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
         if hi / lo - 1.0 < 1e-13 {
             break;
+        }
+        let bisect = same_side >= 2;
+        let mut x = (lo * hi).sqrt();
+        if !bisect && flo > 0.0 && fhi.is_finite() {
+            let (ul, uh) = (lo.ln(), hi.ln());
+            let (gl, gh) = (flo.ln(), fhi.ln());
+            if gh > gl {
+                let u = ul + (0.0 - gl) * (uh - ul) / (gh - gl);
+                let t = u.exp();
+                if t > lo && t < hi {
+                    x = t;
+                }
+            }
+        }
+        let fx = f(x);
+        let low = fx <= 1.0;
+        same_side = if bisect || low != last_low {
+            0
+        } else {
+            same_side + 1
+        };
+        last_low = low;
+        if low {
+            lo = x;
+            flo = fx;
+            // try just above the landing point: a bracket of one part in 10^13
+            let y = (x * (1.0 + 5e-14)).min(hi);
+            if y < hi {
+                let fy = f(y);
+                if fy > 1.0 {
+                    hi = y;
+                    fhi = fy;
+                } else {
+                    lo = y;
+                    flo = fy;
+                }
+            }
+        } else {
+            hi = x;
+            fhi = fx;
+            let y = (x * (1.0 - 5e-14)).max(lo);
+            if y > lo {
+                let fy = f(y);
+                if fy <= 1.0 {
+                    lo = y;
+                    flo = fy;
+                } else {
+                    hi = y;
+                    fhi = fy;
+                }
+            }
         }
     }
     Some(lo)
@@ -443,6 +496,28 @@ mod tests {
                 None => 0.0,
             })
             .sum()
+    }
+
+    #[test]
+    fn the_search_finds_the_limit_of_power_laws_jumps_and_sums() {
+        // one power law: 0.3·k^3 = 1 at k = (1/0.3)^(1/3) = 1.493801582 (hand-worked)
+        let k = sup_passing(|k| 0.3 * k.powi(3)).unwrap();
+        assert!((k - (1.0f64 / 0.3).powf(1.0 / 3.0)).abs() <= 1e-12 * k);
+        // a limit below which nothing counts, then a jump past 1: the search ends at the
+        // jump, 1.2 (the constant-amplitude rule's shape)
+        let k = sup_passing(|k| if k <= 1.2 { 0.0 } else { 5.0 }).unwrap();
+        assert!((k - 1.2).abs() <= 1e-12);
+        // a sum of two slopes (EN eq. (8.3) shape): 0.256k^3 + 0.11865234375k^5 = 1 at
+        // k = 1.299002976 (hand-worked by bisection, tests/tools/hand_worked.py)
+        let f = |k: f64| 0.256 * k.powi(3) + 0.11865234375 * k.powi(5);
+        let k = sup_passing(f).unwrap();
+        assert!((k - 1.299002976).abs() <= 1e-9 * k);
+        assert!(f(k) <= 1.0 && f(k * (1.0 + 2e-13)) > 1.0);
+        // a steep tail (m = 22) from far below: 1e-30·k^22 = 1 at k = 10^(30/22)
+        let k = sup_passing(|k| 1e-30 * k.powi(22)).unwrap();
+        assert!((k - 10f64.powf(30.0 / 22.0)).abs() <= 1e-12 * k);
+        // never reaching the limit: no finite factor
+        assert_eq!(sup_passing(|_| 0.0), None);
     }
 
     proptest! {

@@ -160,6 +160,75 @@ impl Row {
     }
 }
 
+/// A decimal number from a cell's bytes (blanks around it allowed), as `str::parse`
+/// reads it. Short plain decimals (`-12.375`: at most 15 digits, no exponent) take a
+/// fast exact path: the digits as an integer divided by a power of ten, both exact in
+/// binary, so one correctly rounded division gives the nearest number (Clinger's fast
+/// path, common practice); anything else goes to the standard parser.
+pub fn parse_f64(cell: &[u8]) -> Option<f64> {
+    let b = cell.trim_ascii();
+    let (neg, digits) = match b.first() {
+        Some(b'-') => (true, &b[1..]),
+        Some(b'+') => (false, &b[1..]),
+        _ => (false, b),
+    };
+    let mut m: u64 = 0;
+    let mut n = 0;
+    let mut frac = 0;
+    let mut dot = false;
+    let mut plain = !digits.is_empty() && digits.len() <= 16;
+    if plain {
+        for &c in digits {
+            match c {
+                b'0'..=b'9' => {
+                    m = m * 10 + (c - b'0') as u64;
+                    n += 1;
+                    if dot {
+                        frac += 1;
+                    }
+                }
+                b'.' if !dot => dot = true,
+                _ => {
+                    plain = false;
+                    break;
+                }
+            }
+        }
+    }
+    if plain && n > 0 && n <= 15 {
+        const POW10: [f64; 16] = [
+            1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+        ];
+        let v = m as f64 / POW10[frac];
+        return Some(if neg { -v } else { v });
+    }
+    std::str::from_utf8(b).ok()?.parse::<f64>().ok()
+}
+
+/// A line without its carriage return and, on line 1, a UTF-8 byte-order mark.
+fn trim_line(mut line: &[u8], number: u64) -> &[u8] {
+    if line.last() == Some(&b'\r') {
+        line = &line[..line.len() - 1];
+    }
+    if number == 1 && line.starts_with(&[0xef, 0xbb, 0xbf]) {
+        line = &line[3..];
+    }
+    line
+}
+
+impl Row {
+    /// Fill this row from raw line bytes (checked for UTF-8 and split into cells).
+    pub fn set(&mut self, line: u64, bytes: &[u8]) -> Result<(), LineError> {
+        if std::str::from_utf8(bytes).is_err() {
+            return Err(LineError::NotUtf8 { line });
+        }
+        self.text.clear();
+        self.text.extend_from_slice(bytes);
+        self.line = line;
+        self.split()
+    }
+}
+
 /// Reads a CSV file line by line, hashing what it reads.
 pub struct CsvLines {
     file: File,
@@ -240,6 +309,44 @@ impl CsvLines {
         }
     }
 
+    /// The next line as raw bytes in the reader's buffer (no copy, no UTF-8 check, line
+    /// end and a first-line byte-order mark removed) with its 1-based number; `None` at
+    /// the end of the file. For fast paths that split and check what they use.
+    pub fn next_raw(&mut self) -> Result<Option<(u64, &[u8])>, LineError> {
+        loop {
+            if let Some(nl) = memchr::memchr(b'\n', &self.buf[self.pos..self.len]) {
+                let start = self.pos;
+                self.line += 1;
+                if nl > MAX_LINE_BYTES {
+                    return Err(LineError::TooLong { line: self.line });
+                }
+                self.pos = start + nl + 1;
+                return Ok(Some((
+                    self.line,
+                    trim_line(&self.buf[start..start + nl], self.line),
+                )));
+            }
+            if self.len - self.pos > MAX_LINE_BYTES {
+                return Err(LineError::TooLong {
+                    line: self.line + 1,
+                });
+            }
+            if self.eof {
+                if self.pos == self.len {
+                    return Ok(None);
+                }
+                self.line += 1;
+                let start = self.pos;
+                self.pos = self.len;
+                return Ok(Some((
+                    self.line,
+                    trim_line(&self.buf[start..self.len], self.line),
+                )));
+            }
+            self.fill().map_err(LineError::Io)?;
+        }
+    }
+
     fn take(&mut self, end: usize, next: usize, row: &mut Row) -> Result<(), LineError> {
         let mut line = &self.buf[self.pos..end];
         if line.last() == Some(&b'\r') {
@@ -301,6 +408,66 @@ mod tests {
                 vec!["last"]
             ]
         );
+    }
+
+    #[test]
+    fn fast_numbers_read_as_the_standard_parser_does() {
+        // the fast path must give the very number `str::parse` gives (common practice:
+        // IEEE 754 round to nearest)
+        for t in [
+            "0",
+            "-0",
+            "12",
+            "-12.375",
+            "0.1",
+            "3.14159265358979",
+            "999999999999999",
+            ".5",
+            "5.",
+            "+7.25",
+            " 42.000 ",
+            "1e3",
+            "-2.5E-4",
+            "12345678901234567",
+            "nan",
+            "inf",
+            "1.2.3",
+            "",
+            "-",
+            ".",
+            "0x10",
+        ] {
+            let want = t.trim().parse::<f64>().ok();
+            let got = parse_f64(t.as_bytes());
+            match (want, got) {
+                (Some(a), Some(b)) => assert!(
+                    a.to_bits() == b.to_bits() || (a.is_nan() && b.is_nan()),
+                    "{t}: {a} vs {b}"
+                ),
+                (None, None) => {}
+                other => panic!("{t}: {other:?}"),
+            }
+        }
+    }
+
+    proptest::proptest! {
+        // random plain decimals of up to 15 digits: bit for bit the standard parser
+        #[test]
+        fn fast_numbers_match_for_any_plain_decimal(
+            m in 0u64..1_000_000_000_000_000,
+            frac in 0usize..15,
+            neg in proptest::bool::ANY,
+        ) {
+            let digits = m.to_string();
+            let t = if frac == 0 || frac >= digits.len() {
+                digits.clone()
+            } else {
+                format!("{}.{}", &digits[..digits.len() - frac], &digits[digits.len() - frac..])
+            };
+            let t = if neg { format!("-{t}") } else { t };
+            let want: f64 = t.parse().unwrap();
+            proptest::prop_assert_eq!(parse_f64(t.as_bytes()).map(f64::to_bits), Some(want.to_bits()), "{}", t);
+        }
     }
 
     #[test]

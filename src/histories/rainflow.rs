@@ -537,7 +537,9 @@ pub struct RainflowCounter {
     tp: TurningPoints,
     stack: Vec<f64>,
     full: u64,
-    scratch: Box<Scratch>,
+    /// Buffers of the slice path, made on the first long slice (a short record, such
+    /// as one passage of an influence line, never needs them).
+    scratch: Option<Box<Scratch>>,
 }
 
 /// Buffers of the slice path.
@@ -549,6 +551,9 @@ struct Scratch {
     ca: [f64; CHUNK],
     cb: [f64; CHUNK],
 }
+
+/// Slices shorter than this go sample by sample, without the slice path's buffers.
+const SHORT_SLICE: usize = 256;
 
 /// Pruning passes per chunk before the reversals go to the stack.
 const PRUNE_PASSES: usize = 5;
@@ -568,13 +573,7 @@ impl RainflowCounter {
             tp: TurningPoints::try_new(gate)?,
             stack: Vec::with_capacity(256),
             full: 0,
-            scratch: Box::new(Scratch {
-                flags: [0; CHUNK],
-                rev: [0.0; CHUNK],
-                tmp: [0.0; CHUNK],
-                ca: [0.0; CHUNK],
-                cb: [0.0; CHUNK],
-            }),
+            scratch: None,
         })
     }
 
@@ -620,13 +619,28 @@ impl RainflowCounter {
 
     /// Feed many samples (fast path).
     pub fn push_slice<F: FnMut(Cycle)>(&mut self, xs: &[f64], sink: &mut F) {
+        if xs.len() < SHORT_SLICE && self.scratch.is_none() {
+            // a few samples: one at a time, the same reversals and cycles
+            for &x in xs {
+                self.push(x, sink);
+            }
+            return;
+        }
         let Scratch {
             flags,
             rev,
             tmp,
             ca,
             cb,
-        } = &mut *self.scratch;
+        } = &mut **self.scratch.get_or_insert_with(|| {
+            Box::new(Scratch {
+                flags: [0; CHUNK],
+                rev: [0.0; CHUNK],
+                tmp: [0.0; CHUNK],
+                ca: [0.0; CHUNK],
+                cb: [0.0; CHUNK],
+            })
+        });
         for chunk in xs.chunks(CHUNK) {
             let mut len = self.tp.extract_chunk::<false>(chunk, rev, flags);
             let (mut src, mut dst) = (&mut *rev, &mut *tmp);

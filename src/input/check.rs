@@ -566,16 +566,16 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
     }
     let mut first_seen: BTreeMap<&str, usize> = BTreeMap::new();
     for (i, det) in file.details.iter().enumerate() {
-        let p = d.index(i);
+        let p = || d.index(i);
         c.text_len(
-            || p.key("id"),
+            || p().key("id"),
             "detail id",
             &det.id,
             MAX_ID_CHARS,
             "give each detail a short unique id, e.g. RG2-W01",
         );
         c.text_len(
-            || p.key("location"),
+            || p().key("location"),
             "location",
             &det.location,
             MAX_LINE_CHARS,
@@ -583,7 +583,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         );
         if det.location.trim().is_empty() {
             c.push(
-                p.key("location"),
+                p().key("location"),
                 InputErrorKind::MissingField,
                 "location is empty".into(),
                 Some("say where the detail is; the package prints it on the detail's sheet".into()),
@@ -591,7 +591,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         }
         if let Some(d) = &det.description {
             c.text_len(
-                || p.key("description"),
+                || p().key("description"),
                 "description",
                 d,
                 MAX_PARAGRAPH_CHARS,
@@ -600,14 +600,14 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         }
         if det.id.trim().is_empty() {
             c.push(
-                p.key("id"),
+                p().key("id"),
                 InputErrorKind::MissingField,
                 "detail id is empty".into(),
                 Some("give each detail a short unique id, e.g. RG2-W01".into()),
             );
         } else if let Some(j) = first_seen.get(det.id.as_str()) {
             c.push(
-                p.key("id"),
+                p().key("id"),
                 InputErrorKind::DuplicateId,
                 format!(
                     "duplicate detail id `{}` (first used by details[{j}])",
@@ -631,7 +631,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 None => format!("defined materials: {}", names.join(", ")),
             };
             c.push(
-                p.key("material"),
+                p().key("material"),
                 InputErrorKind::UndefinedMaterial,
                 format!(
                     "material `{}` is not defined under `materials:`",
@@ -642,7 +642,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         }
         let size_why = "thickness and distances are in mm; 10 000 mm is the most accepted";
         c.positive_upto(
-            || p.key("thickness_mm"),
+            || p().key("thickness_mm"),
             "thickness_mm",
             det.thickness_mm,
             MAX_THICKNESS_MM,
@@ -650,7 +650,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         );
         if let Some(l) = det.toe_distance_mm {
             c.positive_upto(
-                || p.key("toe_distance_mm"),
+                || p().key("toe_distance_mm"),
                 "toe_distance_mm",
                 l,
                 MAX_THICKNESS_MM * 10.0,
@@ -660,7 +660,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         if let Some(n) = det.thickness_exponent {
             if !(n.is_finite() && (0.0..=1.0).contains(&n)) {
                 c.push(
-                    p.key("thickness_exponent"),
+                    p().key("thickness_exponent"),
                     InputErrorKind::InvalidValue,
                     format!("thickness_exponent must lie between 0 and 1, got {n}"),
                     None,
@@ -669,7 +669,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         }
         if det.normal.is_none() && det.shear.is_none() {
             c.push(
-                p.clone(),
+                p(),
                 InputErrorKind::MissingField,
                 format!(
                     "detail `{}` has neither `normal:` nor `shear:` loading",
@@ -692,7 +692,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                         None => format!("`seamlife classes {}` lists the catalogue", fam.id),
                     };
                     c.push(
-                        p.key("detail"),
+                        p().key("detail"),
                         InputErrorKind::UnknownDetail,
                         format!("`{key}` is not in the {} catalogue", fam.id),
                         Some(hint),
@@ -704,7 +704,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
         };
         if let Some(case) = &det.mean_stress_case {
             c.option_name(
-                || p.key("mean_stress_case"),
+                || p().key("mean_stress_case"),
                 "mean-stress case",
                 case,
                 fam.mean_stress.cases.keys().cloned().collect(),
@@ -715,7 +715,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
             (Component::Shear, &det.shear),
         ] {
             let Some(ci) = input else { continue };
-            let cp = p.key(comp.as_str());
+            let cp = || p().key(comp.as_str());
             check_component(
                 c,
                 fam,
@@ -735,7 +735,7 @@ fn check_component(
     comp: Component,
     ci: &ComponentInput,
     from_entry: Option<Option<f64>>,
-    cp: &YamlPath,
+    cp: &dyn Fn() -> YamlPath,
     has_detail_key: bool,
 ) {
     let cats = &fam.curves.get(comp).categories_mpa;
@@ -752,7 +752,7 @@ fn check_component(
                     .collect::<Vec<_>>()
                     .join(", ");
                 c.push(
-                    cp.key("category"),
+                    cp().key("category"),
                     InputErrorKind::UnknownCategory,
                     format!(
                         "{} category {cat} is not one of the {} categories",
@@ -782,7 +782,7 @@ fn check_component(
                     )
                 };
                 c.push(
-                    cp.clone(),
+                    cp(),
                     InputErrorKind::MissingField,
                     why,
                     Some(format!(
@@ -798,14 +798,14 @@ fn check_component(
     }
     if ci.loading.is_empty() {
         c.push(
-            cp.key("loading"),
+            cp().key("loading"),
             InputErrorKind::MissingField,
             "loading lists no events".into(),
             Some("add at least one event with per_year and blocks".into()),
         );
     }
     for (k, ev) in ci.loading.iter().enumerate() {
-        let ep = cp.key("loading").index(k);
+        let ep = || cp().key("loading").index(k);
         let sources = [
             ev.blocks.is_some(),
             ev.series.is_some(),
@@ -813,14 +813,14 @@ fn check_component(
         ];
         if sources.iter().filter(|&&x| x).count() != 1 {
             c.push(
-                ep.clone(),
+                ep(),
                 InputErrorKind::MissingField,
                 "an event needs exactly one of `blocks:` or `series:`".into(),
                 Some("split block loading and a measured series into two events".into()),
             );
         }
         c.text_len(
-            || ep.key("event"),
+            || ep().key("event"),
             "event",
             &ev.event,
             MAX_LINE_CHARS,
@@ -832,16 +832,20 @@ fn check_component(
             .is_some_and(|s| s.record_hours.is_some() || s.hours_per_year.is_some());
         if ev.per_year.is_some() && timed {
             c.push(
-                ep.key("per_year"),
+                ep().key("per_year"),
                 InputErrorKind::InvalidValue,
                 "`per_year` and the series' `record_hours`/`hours_per_year` both say how often the record repeats; give one of them".into(),
                 Some("keep `per_year` (repeats of the record per year), or remove it and give `record_hours` with `hours_per_year`".into()),
             );
         }
         match ev.per_year {
-            Some(py) => {
-                c.positive_upto(|| ep.key("per_year"), "per_year", py, MAX_COUNT, COUNT_WHY)
-            }
+            Some(py) => c.positive_upto(
+                || ep().key("per_year"),
+                "per_year",
+                py,
+                MAX_COUNT,
+                COUNT_WHY,
+            ),
             None => {
                 let timed = ev
                     .series
@@ -849,7 +853,7 @@ fn check_component(
                     .is_some_and(|s| s.record_hours.is_some() && s.hours_per_year.is_some());
                 if !timed {
                     c.push(
-                        ep.clone(),
+                        ep(),
                         InputErrorKind::MissingField,
                         "missing field `per_year` (occurrences of the event per year)".into(),
                         Some(if ev.series.is_some() {
@@ -865,14 +869,14 @@ fn check_component(
         if let Some(blocks) = &ev.blocks {
             if blocks.is_empty() {
                 c.push(
-                    ep.key("blocks"),
+                    ep().key("blocks"),
                     InputErrorKind::MissingField,
                     "blocks is empty".into(),
                     Some("list at least one {range_mpa, cycles} block".into()),
                 );
             }
             for (j, bl) in blocks.iter().enumerate() {
-                let bp = ep.key("blocks").index(j);
+                let bp = || ep().key("blocks").index(j);
                 check_block(c, bl, &bp);
                 let per_year = ev.per_year.unwrap_or(1.0);
                 let total = bl.cycles * per_year;
@@ -883,7 +887,7 @@ fn check_component(
                     && total > crate::histories::MAX_CYCLES_PER_YEAR
                 {
                     c.push(
-                        bp.key("cycles"),
+                        bp().key("cycles"),
                         InputErrorKind::OutOfRange,
                         format!(
                             "cycles {} × per_year {} = {} cycles a year, more than the {} accepted",
@@ -898,20 +902,20 @@ fn check_component(
             }
         }
         if let Some(s) = &ev.series {
-            check_series(c, s, &ep.key("series"));
+            check_series(c, s, &ep().key("series"));
         }
     }
 }
 
 /// Loading stated as constant amplitude must be blocks of one range: a counted record
 /// is variable amplitude by nature.
-fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath) {
+fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &dyn Fn() -> YamlPath) {
     let mut first: Option<f64> = None;
     for (k, ev) in ci.loading.iter().enumerate() {
-        let ep = cp.key("loading").index(k);
+        let ep = || cp().key("loading").index(k);
         if ev.series.is_some() {
             c.push(
-                ep.key("series"),
+                ep().key("series"),
                 InputErrorKind::InvalidValue,
                 "`amplitude: constant` cannot take a counted record: a measured or simulated series is variable amplitude".into(),
                 Some("remove `amplitude: constant`, or give the loading as blocks of one range".into()),
@@ -928,7 +932,7 @@ fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath)
             match first {
                 None => first = Some(range),
                 Some(r0) if (range - r0).abs() > 1e-9 * r0.abs() => c.push(
-                    ep.key("blocks").index(j),
+                    ep().key("blocks").index(j),
                     InputErrorKind::InvalidValue,
                     format!("`amplitude: constant` needs one stress range, but this block has {range} MPa and an earlier one {r0} MPa"),
                     Some("blocks of different ranges are variable amplitude: remove `amplitude: constant` or use `amplitude: variable`".into()),
@@ -939,20 +943,20 @@ fn check_constant_amplitude(c: &mut Checker, ci: &ComponentInput, cp: &YamlPath)
     }
 }
 
-fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
+fn check_block(c: &mut Checker, bl: &Block, bp: &dyn Fn() -> YamlPath) {
     match (bl.range_mpa, bl.mean_mpa, bl.max_mpa, bl.min_mpa) {
         (Some(r), mean, None, None) => {
-            c.positive_upto(|| bp.key("range_mpa"), "range_mpa", r, MAX_STRESS_MPA, STRESS_WHY);
+            c.positive_upto(|| bp().key("range_mpa"), "range_mpa", r, MAX_STRESS_MPA, STRESS_WHY);
             if let Some(m) = mean {
-                c.finite_upto(|| bp.key("mean_mpa"), "mean_mpa", m, MAX_STRESS_MPA, STRESS_WHY);
+                c.finite_upto(|| bp().key("mean_mpa"), "mean_mpa", m, MAX_STRESS_MPA, STRESS_WHY);
             }
         }
         (None, None, Some(hi), Some(lo)) => {
-            c.finite_upto(|| bp.key("max_mpa"), "max_mpa", hi, MAX_STRESS_MPA, STRESS_WHY);
-            c.finite_upto(|| bp.key("min_mpa"), "min_mpa", lo, MAX_STRESS_MPA, STRESS_WHY);
+            c.finite_upto(|| bp().key("max_mpa"), "max_mpa", hi, MAX_STRESS_MPA, STRESS_WHY);
+            c.finite_upto(|| bp().key("min_mpa"), "min_mpa", lo, MAX_STRESS_MPA, STRESS_WHY);
             if hi.is_finite() && lo.is_finite() && hi <= lo {
                 c.push(
-                    bp.key("max_mpa"),
+                    bp().key("max_mpa"),
                     InputErrorKind::InvalidValue,
                     format!("max_mpa {} must exceed min_mpa {}", short_num(hi), short_num(lo)),
                     Some("the range is max_mpa - min_mpa and must be positive".into()),
@@ -960,14 +964,14 @@ fn check_block(c: &mut Checker, bl: &Block, bp: &YamlPath) {
             }
         }
         _ => c.push(
-            bp.clone(),
+            bp(),
             InputErrorKind::MissingField,
             "a block needs `range_mpa` (optionally with `mean_mpa`) or both `max_mpa` and `min_mpa`".into(),
             Some("e.g. {range_mpa: 62, cycles: 1} or {max_mpa: 40, min_mpa: -22, cycles: 1}".into()),
         ),
     }
     c.positive_upto(
-        || bp.key("cycles"),
+        || bp().key("cycles"),
         "cycles",
         bl.cycles,
         MAX_COUNT,

@@ -22,7 +22,7 @@ use std::path::{Path, PathBuf};
 use super::schema::*;
 use crate::catalogue::Component;
 use crate::error::{InputError, InputErrorKind, Location};
-use crate::files::csvlines::{CsvLines, LineError, Row};
+use crate::files::csvlines::{parse_f64, CsvLines, LineError, Row};
 use crate::files::{shown, suggest};
 use crate::results::SeriesFileInfo;
 
@@ -165,7 +165,8 @@ pub fn resolve_table(
 
 /// A header row: column name -> position, refusing unknown and repeated names.
 struct Header {
-    pos: HashMap<String, usize>,
+    /// (column name, position) of each column present; a short list, searched by name.
+    pos: Vec<(String, usize)>,
 }
 
 impl Header {
@@ -188,7 +189,7 @@ impl Header {
                 required.join(", ")
             )));
         }
-        let mut pos = HashMap::new();
+        let mut pos: Vec<(String, usize)> = Vec::new();
         for i in 0..row.len() {
             let name = row.cell(i).to_string();
             let loc = at(path, row.line, row.column(i));
@@ -212,7 +213,7 @@ impl Header {
                 )
                 .hint(hint));
             }
-            if pos.insert(name.clone(), i).is_some() {
+            if pos.iter().any(|(n, _)| *n == name) {
                 return Err(InputError::new(
                     InputErrorKind::DuplicateId,
                     loc,
@@ -220,9 +221,10 @@ impl Header {
                 )
                 .hint("each column may appear once"));
             }
+            pos.push((name, i));
         }
         for r in required {
-            if !pos.contains_key(*r) {
+            if !pos.iter().any(|(n, _)| n == r) {
                 return Err(InputError::new(
                     InputErrorKind::MissingField,
                     at(path, row.line, 1),
@@ -235,7 +237,7 @@ impl Header {
     }
 
     fn get(&self, name: &str) -> Option<usize> {
-        self.pos.get(name).copied()
+        self.pos.iter().find(|(n, _)| n == name).map(|p| p.1)
     }
 }
 
@@ -285,7 +287,7 @@ impl Cells<'_> {
         if raw.is_empty() {
             return Ok(None);
         }
-        match raw.parse::<f64>() {
+        match parse_f64(raw.as_bytes()).ok_or(()) {
             Ok(v) if v.is_finite() => Ok(Some(v)),
             Ok(_) => Err(InputError::new(
                 InputErrorKind::InvalidValue,
@@ -635,44 +637,47 @@ impl<'a> Reader<'a> {
                 continue;
             }
             let d = self.detail_index(path, &row, id_col)?;
-            let id = self.details[d - self.data.first_detail].id.clone();
-            let c = Cells {
-                path,
-                row: &row,
-                header: &header,
-                detail: Some(&id),
-            };
-            let comp = c.component()?;
-            let e = self.event_index(path, &row, ev_col, &id)?;
-            let range = c.number("range_mpa")?;
-            let mean = c.number("mean_mpa")?;
-            let max = c.number("max_mpa")?;
-            let min = c.number("min_mpa")?;
-            if range.is_some() && (max.is_some() || min.is_some()) {
-                let col = header
-                    .get(if max.is_some() { "max_mpa" } else { "min_mpa" })
-                    .unwrap_or(0);
-                return Err(InputError::new(
+            let (comp, e, block) = {
+                let id = self.details[d - self.data.first_detail].id.as_str();
+                let c = Cells {
+                    path,
+                    row: &row,
+                    header: &header,
+                    detail: Some(id),
+                };
+                let comp = c.component()?;
+                let e = self.event_index(path, &row, ev_col, id)?;
+                let range = c.number("range_mpa")?;
+                let mean = c.number("mean_mpa")?;
+                let max = c.number("max_mpa")?;
+                let min = c.number("min_mpa")?;
+                if range.is_some() && (max.is_some() || min.is_some()) {
+                    let col = header
+                        .get(if max.is_some() { "max_mpa" } else { "min_mpa" })
+                        .unwrap_or(0);
+                    return Err(InputError::new(
                     InputErrorKind::InvalidValue,
                     c.loc(col),
-                    format!("detail `{}`: the row gives both `range_mpa` and max/min", shown(&id)),
+                    format!("detail `{}`: the row gives both `range_mpa` and max/min", shown(id)),
                 )
                 .hint("give `range_mpa` (optionally with `mean_mpa`), or `max_mpa` and `min_mpa`, not both"));
-            }
-            let cycles = c.number("cycles")?.ok_or_else(|| {
-                InputError::new(
-                    InputErrorKind::MissingField,
-                    c.loc(header.get("cycles").unwrap_or(0)),
-                    format!("detail `{}`: `cycles` is empty", shown(&id)),
-                )
-                .hint("give the cycles of this block per occurrence of the event")
-            })?;
-            let block = Block {
-                range_mpa: range,
-                mean_mpa: mean,
-                max_mpa: max,
-                min_mpa: min,
-                cycles,
+                }
+                let cycles = c.number("cycles")?.ok_or_else(|| {
+                    InputError::new(
+                        InputErrorKind::MissingField,
+                        c.loc(header.get("cycles").unwrap_or(0)),
+                        format!("detail `{}`: `cycles` is empty", shown(id)),
+                    )
+                    .hint("give the cycles of this block per occurrence of the event")
+                })?;
+                let block = Block {
+                    range_mpa: range,
+                    mean_mpa: mean,
+                    max_mpa: max,
+                    min_mpa: min,
+                    cycles,
+                };
+                (comp, e, block)
             };
             self.event_slot(d, comp, e)
                 .blocks
@@ -716,10 +721,40 @@ impl<'a> Reader<'a> {
         let mut last_key: Vec<u8> = Vec::new();
         let mut last: Option<usize> = None;
         let mut key = Vec::new();
-        while lines
-            .next_row(&mut row)
-            .map_err(|e| line_error(path, "histories", e))?
-        {
+        // Fast path for the usual layout (columns in the order detail_id, component,
+        // event, stress_mpa; no quotes): a row of the same history as the one before
+        // starts with the same bytes up to its third comma, so only its number is read.
+        let ordered = (id_col, comp_col, ev_col, s_col) == (0, 1, 2, 3);
+        let mut last_prefix: Vec<u8> = Vec::new();
+        loop {
+            let next = lines
+                .next_raw()
+                .map_err(|e| line_error(path, "histories", e))?;
+            let Some((line_no, bytes)) = next else { break };
+            if ordered && !last_prefix.is_empty() && bytes.starts_with(&last_prefix) {
+                let rest = &bytes[last_prefix.len()..];
+                if let (Some(h), None) = (last, memchr::memchr2(b',', b'"', rest)) {
+                    if let Some(v) = parse_f64(rest).filter(|v| v.is_finite()) {
+                        let at = self.data.samples.len();
+                        self.data.samples.push(v);
+                        let runs = &mut self.data.histories[h].runs;
+                        match runs.last_mut() {
+                            Some(r) if r.end == at => r.end = at + 1,
+                            _ => runs.push(at..at + 1),
+                        }
+                        continue;
+                    }
+                }
+            }
+            // the prefix of this line, for the next one
+            last_prefix.clear();
+            if ordered && !bytes.contains(&b'"') {
+                if let Some(c3) = memchr::memchr_iter(b',', bytes).nth(2) {
+                    last_prefix.extend_from_slice(&bytes[..=c3]);
+                }
+            }
+            row.set(line_no, bytes)
+                .map_err(|e| line_error(path, "histories", e))?;
             if row.blank() {
                 continue;
             }
