@@ -69,6 +69,11 @@ impl<'a> Engine<'a> {
         self
     }
 
+    /// The family the details are assessed with.
+    pub fn family(&self) -> &Family {
+        self.fam
+    }
+
     /// Number of details in the project.
     pub fn len(&self) -> usize {
         self.project.file.details.len()

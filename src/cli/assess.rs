@@ -1,14 +1,13 @@
 //! `seamlife assess`: results as a table, the JSON results model, CSV rows or JSON
 //! Lines; for large projects the CSV and JSON Lines are written detail by detail.
 
-use std::io::{IsTerminal, Write};
+use std::io::IsTerminal;
 use std::path::PathBuf;
 
 use clap::Args;
 
-use super::exit_code_for;
-use super::output::{print_err, print_text, table, write_json};
-use super::stream::{write_details, StreamFormat, CHUNK_DETAILS};
+use super::output::{print_err, print_text, render_table, TableRow};
+use super::stream::{write_details, write_model, StreamFormat, CHUNK_DETAILS};
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_FAIL, EXIT_PASS};
 use crate::files::text::one_line;
@@ -100,8 +99,6 @@ pub(super) fn run(
         .get(&loaded.project.file.basis.family)
         .ok_or_else(|| Error::Internal("family vanished after the check".into()))?;
     let engine = crate::assess::Engine::new(&loaded.project, family, &loaded.histories);
-    // CSV rows need the numbers only: no blocks, bands or figures' data
-    let engine = if a.csv { engine.lean() } else { engine };
     let total = engine.len();
     let range = match shard {
         Some((k, n)) => shard_range(k, n, total),
@@ -114,6 +111,8 @@ pub(super) fn run(
         } else {
             StreamFormat::JsonLines
         };
+        // CSV rows need the numbers only: no blocks, bands or figures' data
+        let engine = if a.csv { engine.lean() } else { engine };
         let mut tick = |done: usize| progress.set(done as u64);
         let summary = match &a.output {
             Some(path) => {
@@ -166,47 +165,72 @@ pub(super) fn run(
             EXIT_FAIL
         });
     }
-    let mut details = Vec::with_capacity(range.len());
-    let mut start = range.start;
-    while start < range.end {
-        let end = (start + CHUNK_DETAILS).min(range.end);
-        details.extend(engine.assess_range(start..end));
-        progress.set((end - range.start) as u64);
-        start = end;
-    }
-    progress.finish();
-    let mut results = engine.results(details);
-    if let Some((k, n)) = shard {
-        results.shard = Some(crate::results::ShardInfo {
-            part: k,
-            parts: n,
-            first_detail: range.start,
-            total_details: total,
-        });
-    }
-    if a.json {
+    let shard_info = shard.map(|(k, n)| crate::results::ShardInfo {
+        part: k,
+        parts: n,
+        first_detail: range.start,
+        total_details: total,
+    });
+    let mut tick = |done: usize| progress.set(done as u64);
+    let summary = if a.json {
         // Streamed: the JSON of a large project is never held whole in memory.
-        match &a.output {
+        let s = match &a.output {
             Some(path) => {
                 let mut f = PendingFile::new(path, &inputs, ".part")?;
-                write_json(f.file(), &results).map_err(|source| Error::Output {
+                let err = |source| Error::Output {
                     path: path.clone(),
                     source,
-                })?;
+                };
+                let mut w = std::io::BufWriter::with_capacity(1 << 20, f.file());
+                let s = write_model(&engine, range, shard_info, &mut w, &err, &mut tick)?;
+                drop(w);
                 f.commit()?;
+                s
             }
-            None => write_json(std::io::stdout().lock(), &results).map_err(Error::Stdout)?,
-        }
+            None => {
+                let mut w = std::io::BufWriter::with_capacity(1 << 20, std::io::stdout().lock());
+                write_model(
+                    &engine,
+                    range,
+                    shard_info,
+                    &mut w,
+                    &Error::Stdout,
+                    &mut tick,
+                )?
+            }
+        };
+        progress.finish();
+        s
     } else {
-        let text = table(&results);
+        // The table keeps one short row per detail, not the results model.
+        let engine = engine.lean();
+        let mut rows = Vec::with_capacity(range.len());
+        let mut sum = crate::assess::SummaryBuilder::default();
+        let mut start = range.start;
+        while start < range.end {
+            let end = (start + CHUNK_DETAILS).min(range.end);
+            for d in &engine.assess_range(start..end) {
+                sum.add(d);
+                rows.push(TableRow::of(d));
+            }
+            tick(end - range.start);
+            start = end;
+        }
+        progress.finish();
+        let summary = sum.finish();
+        let text = render_table(&engine.frame(), &summary, &rows);
         match &a.output {
             Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
             None => print_text(&text)?,
         }
-    }
+        summary
+    };
     if a.json || a.output.is_some() {
-        let _ = std::io::stderr().flush();
         print_err(&format!("{CAUTION_LINE}\n"));
     }
-    Ok(exit_code_for(&results))
+    Ok(if summary.passed == summary.details {
+        EXIT_PASS
+    } else {
+        EXIT_FAIL
+    })
 }

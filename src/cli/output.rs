@@ -155,9 +155,44 @@ fn truncate(s: &str, n: usize) -> String {
     }
 }
 
+/// One detail of the readable table: its cells, and its warnings as printed lines.
+#[derive(Debug, Clone)]
+pub struct TableRow {
+    cells: [String; 7],
+    warnings: Vec<String>,
+}
+
+impl TableRow {
+    pub fn of(d: &crate::results::DetailResult) -> TableRow {
+        TableRow {
+            cells: [
+                one_line(&d.id).into_owned(),
+                truncate(&one_line(&d.location), 44),
+                category_cell(d),
+                cell3(d.damage),
+                cell3(d.utilisation),
+                fmt_life(d.life_years),
+                d.status.as_str().into(),
+            ],
+            warnings: d
+                .warnings
+                .iter()
+                .map(|w| format!("warning: {}: {}\n", one_line(&d.id), one_line(&w.message)))
+                .collect(),
+        }
+    }
+}
+
 /// The readable table printed by `assess`.
 pub fn table(r: &Results) -> String {
-    let mut rows: Vec<[String; 7]> = vec![[
+    let rows: Vec<TableRow> = r.details.iter().map(TableRow::of).collect();
+    render_table(r, &r.summary, &rows)
+}
+
+/// The readable table from the results frame (project, family, basis), the summary
+/// and the rows, so that a large project never holds its whole results model.
+pub fn render_table(r: &Results, s: &crate::results::Summary, details: &[TableRow]) -> String {
+    let head: [String; 7] = [
         "id".into(),
         "location".into(),
         "category MPa".into(),
@@ -165,21 +200,13 @@ pub fn table(r: &Results) -> String {
         "utilisation".into(),
         "life years".into(),
         "status".into(),
-    ]];
-    for d in &r.details {
-        rows.push([
-            one_line(&d.id).into_owned(),
-            truncate(&one_line(&d.location), 44),
-            category_cell(d),
-            cell3(d.damage),
-            cell3(d.utilisation),
-            fmt_life(d.life_years),
-            d.status.as_str().into(),
-        ]);
-    }
+    ];
+    let rows: Vec<&[String; 7]> = std::iter::once(&head)
+        .chain(details.iter().map(|d| &d.cells))
+        .collect();
     let mut widths = [0usize; 7];
     for row in &rows {
-        for (w, c) in widths.iter_mut().zip(row) {
+        for (w, c) in widths.iter_mut().zip(row.iter()) {
             *w = (*w).max(c.chars().count());
         }
     }
@@ -229,7 +256,6 @@ pub fn table(r: &Results) -> String {
         }
     }
     out.push('\n');
-    let s = &r.summary;
     out.push_str(&format!(
         "{} details: {} pass, {} fail, {} outside the method; governing {} at utilisation {}\n",
         s.details,
@@ -239,13 +265,9 @@ pub fn table(r: &Results) -> String {
         one_line(s.governing_detail.as_deref().unwrap_or("-")),
         cell3(s.max_utilisation)
     ));
-    for d in &r.details {
+    for d in details {
         for w in &d.warnings {
-            out.push_str(&format!(
-                "warning: {}: {}\n",
-                one_line(&d.id),
-                one_line(&w.message)
-            ));
+            out.push_str(w);
         }
     }
     out.push_str(CAUTION_LINE);

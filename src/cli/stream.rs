@@ -144,3 +144,87 @@ pub fn write_details(
     w.flush().map_err(io_err)?;
     Ok(summary.finish())
 }
+
+/// `value` as pretty JSON (steering characters escaped), every line after the first
+/// indented by `indent` spaces, without a final newline.
+fn pretty(value: &impl serde::Serialize, indent: usize) -> std::io::Result<Vec<u8>> {
+    let mut buf = Vec::new();
+    super::output::write_json(&mut buf, value)?;
+    while buf.last() == Some(&b'\n') {
+        buf.pop();
+    }
+    if indent == 0 {
+        return Ok(buf);
+    }
+    // strings never hold a raw line end (JSON escapes it), so every newline is layout
+    let pad = " ".repeat(indent);
+    let mut out = Vec::with_capacity(buf.len() + buf.len() / 8);
+    for (i, line) in buf.split(|&b| b == b'\n').enumerate() {
+        if i > 0 {
+            out.push(b'\n');
+            out.extend_from_slice(pad.as_bytes());
+        }
+        out.extend_from_slice(line);
+    }
+    Ok(out)
+}
+
+/// The whole results model as JSON, its details assessed and written chunk by chunk
+/// (the summary, known only at the end, follows the details). Returns the summary.
+pub fn write_model(
+    engine: &Engine,
+    range: std::ops::Range<usize>,
+    shard: Option<crate::results::ShardInfo>,
+    w: &mut dyn Write,
+    io_err: &dyn Fn(std::io::Error) -> Error,
+    on_chunk: &mut dyn FnMut(usize),
+) -> Result<Summary, Error> {
+    let frame = engine.frame();
+    let mut put = |bytes: &[u8]| w.write_all(bytes).map_err(io_err);
+    let field = |name: &str, v: std::io::Result<Vec<u8>>| -> Result<Vec<u8>, Error> {
+        let mut b = format!("  \"{name}\": ").into_bytes();
+        b.extend(v.map_err(io_err)?);
+        b.extend_from_slice(b",\n");
+        Ok(b)
+    };
+    put(b"{\n")?;
+    put(&field("model_version", pretty(&frame.model_version, 2))?)?;
+    put(&field("tool", pretty(&frame.tool, 2))?)?;
+    put(&field("input", pretty(&frame.input, 2))?)?;
+    put(&field("project", pretty(&frame.project, 2))?)?;
+    put(&field("family", pretty(&frame.family, 2))?)?;
+    put(&field("basis", pretty(&frame.basis, 2))?)?;
+    put(&field("shard", pretty(&shard, 2))?)?;
+    put(b"  \"details\": [")?;
+    let mut summary = SummaryBuilder::default();
+    let mut keys = std::collections::BTreeSet::new();
+    let mut first = true;
+    let mut start = range.start;
+    while start < range.end {
+        let end = (start + CHUNK_DETAILS).min(range.end);
+        for d in &engine.assess_range(start..end) {
+            summary.add(d);
+            if let Some(k) = &d.detail_key {
+                if !keys.contains(k.as_str()) {
+                    keys.insert(k.clone());
+                }
+            }
+            put(if first { b"\n    " } else { b",\n    " })?;
+            first = false;
+            put(&pretty(d, 4).map_err(io_err)?)?;
+        }
+        on_chunk(end - range.start);
+        start = end;
+    }
+    put(if first { b"],\n" } else { b"\n  ],\n" })?;
+    let summary = summary.finish();
+    put(&field("summary", pretty(&summary, 2))?)?;
+    let used = crate::assess::catalogue_used(engine.family(), keys.iter().map(|k| k.as_str()));
+    put(&field("catalogue_used", pretty(&used, 2))?)?;
+    let mut last = b"  \"cautions\": ".to_vec();
+    last.extend(pretty(&frame.cautions, 2).map_err(io_err)?);
+    last.extend_from_slice(b"\n}\n");
+    put(&last)?;
+    w.flush().map_err(io_err)?;
+    Ok(summary)
+}
