@@ -13,6 +13,7 @@ pub mod files;
 pub mod fit;
 pub mod histories;
 pub mod input;
+pub mod merge;
 pub mod report;
 pub mod results;
 pub mod starter;

@@ -8,7 +8,7 @@ mod common;
 
 use std::path::Path;
 
-use common::{cmd, run, run_in};
+use common::{cmd, hall, run, run_in};
 
 fn close(a: f64, b: f64, rel: f64) -> bool {
     (a - b).abs() <= rel * b.abs().max(1e-300)
@@ -371,18 +371,6 @@ fn an_output_never_replaces_a_table() {
         std::fs::read_to_string(dir.path().join("tables/stresses.csv")).unwrap(),
         STRESSES
     );
-}
-
-/// A larger generated project: the invented runway hall of the batch demo.
-fn hall(dir: &Path, details: usize, steps: usize) {
-    let st = std::process::Command::new(env!("CARGO"))
-        .args(["run", "-q", "--example", "make_batch", "--"])
-        .arg(dir)
-        .args([details.to_string(), steps.to_string()])
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .status()
-        .unwrap();
-    assert!(st.success());
 }
 
 #[test]

@@ -1,17 +1,15 @@
 //! `seamlife assess`: results as a table, the JSON results model, CSV rows or JSON
 //! Lines; for large projects the CSV and JSON Lines are written detail by detail.
 
-use std::io::IsTerminal;
 use std::path::PathBuf;
 
 use clap::Args;
 
-use super::output::{print_err, print_text, render_table, TableRow};
+use super::output::{print_err, print_text, render_table, write_streamed, TableRow};
 use super::stream::{write_details, write_model, StreamFormat, CHUNK_DETAILS};
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_FAIL, EXIT_PASS};
 use crate::files::text::one_line;
-use crate::files::write::PendingFile;
 use crate::results::CAUTION_LINE;
 
 #[derive(Args, Debug)]
@@ -67,11 +65,7 @@ pub fn parse_shard(s: &str) -> Result<(usize, usize), Error> {
 }
 
 /// The contiguous range of details of part `k` of `n` (1-based) out of `total`.
-pub fn shard_range(k: usize, n: usize, total: usize) -> std::ops::Range<usize> {
-    // part k holds details floor((k-1)·total/n) .. floor(k·total/n)
-    let at = |j: usize| ((j as u128 * total as u128) / n as u128) as usize;
-    at(k - 1)..at(k)
-}
+pub use crate::merge::shard_range;
 
 pub(super) fn run(
     a: &AssessArgs,
@@ -114,34 +108,10 @@ pub(super) fn run(
         // CSV rows need the numbers only: no blocks, bands or figures' data
         let engine = if a.csv { engine.lean() } else { engine };
         let mut tick = |done: usize| progress.set(done as u64);
-        let summary = match &a.output {
-            Some(path) => {
-                let mut f = PendingFile::new(path, &inputs, ".part")?;
-                let err = |source| Error::Output {
-                    path: path.clone(),
-                    source,
-                };
-                let mut w = std::io::BufWriter::with_capacity(1 << 20, f.file());
-                let s = write_details(&engine, range, format, &mut w, false, &err, &mut tick)?;
-                drop(w);
-                f.commit()?;
-                s
-            }
-            None => {
-                let stdout = std::io::stdout();
-                let escape = a.csv && stdout.is_terminal();
-                let mut w = std::io::BufWriter::with_capacity(1 << 20, stdout.lock());
-                write_details(
-                    &engine,
-                    range,
-                    format,
-                    &mut w,
-                    escape,
-                    &Error::Stdout,
-                    &mut tick,
-                )?
-            }
-        };
+        let csv = a.csv;
+        let summary = write_streamed(a.output.as_deref(), &inputs, |w, err, terminal| {
+            write_details(&engine, range, format, w, csv && terminal, err, &mut tick)
+        })?;
         progress.finish();
         print_err(&format!(
             "{} details: {} pass, {} fail, {} outside the method{}\n{CAUTION_LINE}\n",
@@ -174,31 +144,9 @@ pub(super) fn run(
     let mut tick = |done: usize| progress.set(done as u64);
     let summary = if a.json {
         // Streamed: the JSON of a large project is never held whole in memory.
-        let s = match &a.output {
-            Some(path) => {
-                let mut f = PendingFile::new(path, &inputs, ".part")?;
-                let err = |source| Error::Output {
-                    path: path.clone(),
-                    source,
-                };
-                let mut w = std::io::BufWriter::with_capacity(1 << 20, f.file());
-                let s = write_model(&engine, range, shard_info, &mut w, &err, &mut tick)?;
-                drop(w);
-                f.commit()?;
-                s
-            }
-            None => {
-                let mut w = std::io::BufWriter::with_capacity(1 << 20, std::io::stdout().lock());
-                write_model(
-                    &engine,
-                    range,
-                    shard_info,
-                    &mut w,
-                    &Error::Stdout,
-                    &mut tick,
-                )?
-            }
-        };
+        let s = write_streamed(a.output.as_deref(), &inputs, |w, err, _| {
+            write_model(&engine, range, shard_info, w, err, &mut tick)
+        })?;
         progress.finish();
         s
     } else {

@@ -6,6 +6,7 @@ mod classes;
 mod count;
 mod fit;
 mod lint;
+mod merge;
 mod new;
 pub mod output;
 pub mod progress;
@@ -56,6 +57,8 @@ pub enum Command {
     Count(CountArgs),
     /// Derive a detail category from fatigue test results (CSV) and write it as a family extension.
     Fit(FitArgs),
+    /// Merge the JSON results of the parts of a sharded run (`assess --shard K/N --json`).
+    Merge(merge::MergeArgs),
     /// Check a project file without assessing it.
     Lint {
         /// Project file (YAML).
@@ -218,6 +221,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Report(a) => report::run(a, &library, jc),
         Command::Count(a) => count::run(a),
         Command::Fit(a) => fit::run(a, &library),
+        Command::Merge(a) => merge::run(a),
         Command::Lint { file } => lint::run(file, &library),
         Command::Classes { family } => classes::run(family.as_deref(), &library),
         Command::New { dir } => new::run(dir, &library),

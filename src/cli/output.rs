@@ -274,3 +274,35 @@ pub fn render_table(r: &Results, s: &crate::results::Summary, details: &[TableRo
     out.push('\n');
     out
 }
+
+/// Write a streamed output into `path` (through a `.part` file renamed into place only
+/// after the last byte, so a failed run leaves nothing) or, without a path, to standard
+/// output. `f` gets the buffered writer, the error for a failed write, and whether
+/// standard output is a terminal (where text must be escaped).
+pub fn write_streamed<T>(
+    path: Option<&std::path::Path>,
+    inputs: &Inputs,
+    f: impl FnOnce(&mut dyn Write, &dyn Fn(std::io::Error) -> Error, bool) -> Result<T, Error>,
+) -> Result<T, Error> {
+    use std::io::IsTerminal;
+    match path {
+        Some(path) => {
+            let mut file = crate::files::write::PendingFile::new(path, inputs, ".part")?;
+            let err = |source| Error::Output {
+                path: path.to_path_buf(),
+                source,
+            };
+            let mut w = std::io::BufWriter::with_capacity(1 << 20, file.file());
+            let t = f(&mut w, &err, false)?;
+            drop(w);
+            file.commit()?;
+            Ok(t)
+        }
+        None => {
+            let stdout = std::io::stdout();
+            let terminal = stdout.is_terminal();
+            let mut w = std::io::BufWriter::with_capacity(1 << 20, stdout.lock());
+            f(&mut w, &Error::Stdout, terminal)
+        }
+    }
+}

@@ -12,7 +12,7 @@ use crate::results::CAUTION_LINE;
 
 #[derive(Args, Debug)]
 pub struct ReportArgs {
-    /// Project file (YAML).
+    /// Project file (YAML), or a results model (`.json`, from `assess --json` or `merge`).
     pub file: PathBuf,
     /// Output PDF [default: <reference>-rev<revision>-fatigue.pdf].
     #[arg(short, long, value_name = "OUT.pdf")]
@@ -34,11 +34,47 @@ pub struct ReportArgs {
     pub typst_timeout: u64,
 }
 
+/// A `.json` file is a results model; anything else a project file.
+fn is_results_file(p: &Path) -> bool {
+    p.extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("json"))
+}
+
 pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Result<i32, Error> {
-    let run = crate::run_project_checked(&a.file, library)?;
-    let inputs = super::run_inputs(&run, jc, a.templates.as_deref());
-    let results = &run.results;
-    for w in crate::report::glyphs::warnings(&a.file, &results.input.text) {
+    let (owned, inputs);
+    if is_results_file(&a.file) {
+        let r = crate::merge::read_results(&a.file)?;
+        if let Some(sh) = &r.shard {
+            return Err(Error::Input(
+                crate::error::InputError::new(
+                    crate::error::InputErrorKind::InvalidValue,
+                    crate::error::Location::file(&a.file),
+                    format!(
+                        "holds part {} of {} of the details only ({} of {})",
+                        sh.part,
+                        sh.parts,
+                        r.details.len(),
+                        sh.total_details
+                    ),
+                )
+                .hint("merge the parts first: seamlife merge PART... -o RESULTS.json"),
+            ));
+        }
+        inputs = super::inputs_of(&a.file, &[], &[], jc, a.templates.as_deref());
+        owned = r;
+    } else {
+        let run = crate::run_project_checked(&a.file, library)?;
+        inputs = super::run_inputs(&run, jc, a.templates.as_deref());
+        owned = run.results;
+    }
+    let results = &owned;
+    // the project text is echoed in the results: its lines are the project file's
+    let echo = if is_results_file(&a.file) {
+        PathBuf::from(&results.input.file_name)
+    } else {
+        a.file.clone()
+    };
+    for w in crate::report::glyphs::warnings(&echo, &results.input.text) {
         super::output::print_err(&format!("{w}\n"));
     }
     let opts = crate::report::ReportOptions {

@@ -5,7 +5,7 @@
 use crate::assess::{Engine, SummaryBuilder};
 use crate::error::Error;
 use crate::files::text::data_num;
-use crate::results::{DetailResult, Summary};
+use crate::results::{DetailResult, Results, ShardInfo, Summary};
 use std::io::Write;
 
 /// Details assessed (in parallel) before their results are written.
@@ -169,36 +169,84 @@ fn pretty(value: &impl serde::Serialize, indent: usize) -> std::io::Result<Vec<u
     Ok(out)
 }
 
+/// Writes a results model as JSON piece by piece, in the field order of a streamed
+/// run: the frame, the details one by one, then the summary (known only at the end),
+/// the catalogue entries used and the cautions.
+struct ModelWriter<'w, 'e> {
+    w: &'w mut dyn Write,
+    io_err: &'e dyn Fn(std::io::Error) -> Error,
+    first: bool,
+}
+
+impl ModelWriter<'_, '_> {
+    fn put(&mut self, bytes: &[u8]) -> Result<(), Error> {
+        self.w.write_all(bytes).map_err(self.io_err)
+    }
+
+    fn field(&mut self, name: &str, v: &impl serde::Serialize) -> Result<(), Error> {
+        let mut b = format!("  \"{name}\": ").into_bytes();
+        b.extend(pretty(v, 2).map_err(self.io_err)?);
+        b.extend_from_slice(b",\n");
+        self.put(&b)
+    }
+
+    fn head(&mut self, frame: &Results, shard: &Option<ShardInfo>) -> Result<(), Error> {
+        self.put(b"{\n")?;
+        self.field("model_version", &frame.model_version)?;
+        self.field("tool", &frame.tool)?;
+        self.field("input", &frame.input)?;
+        self.field("project", &frame.project)?;
+        self.field("family", &frame.family)?;
+        self.field("basis", &frame.basis)?;
+        self.field("shard", shard)?;
+        self.put(b"  \"details\": [")
+    }
+
+    fn detail(&mut self, d: &DetailResult) -> Result<(), Error> {
+        let sep: &[u8] = if self.first { b"\n    " } else { b",\n    " };
+        self.first = false;
+        self.put(sep)?;
+        let b = pretty(d, 4).map_err(self.io_err)?;
+        self.put(&b)
+    }
+
+    fn tail(
+        &mut self,
+        summary: &Summary,
+        used: &[crate::results::CatalogueEntryUsed],
+        cautions: &[String],
+    ) -> Result<(), Error> {
+        let close: &[u8] = if self.first { b"],\n" } else { b"\n  ],\n" };
+        self.put(close)?;
+        self.field("summary", summary)?;
+        self.field("catalogue_used", &used)?;
+        let mut last = b"  \"cautions\": ".to_vec();
+        last.extend(pretty(&cautions, 2).map_err(self.io_err)?);
+        last.extend_from_slice(b"\n}\n");
+        self.put(&last)?;
+        self.w.flush().map_err(self.io_err)
+    }
+}
+
 /// The whole results model as JSON, its details assessed and written chunk by chunk
 /// (the summary, known only at the end, follows the details). Returns the summary.
 pub fn write_model(
     engine: &Engine,
     range: std::ops::Range<usize>,
-    shard: Option<crate::results::ShardInfo>,
+    shard: Option<ShardInfo>,
     w: &mut dyn Write,
     io_err: &dyn Fn(std::io::Error) -> Error,
     on_chunk: &mut dyn FnMut(usize),
 ) -> Result<Summary, Error> {
     let frame = engine.frame();
-    let mut put = |bytes: &[u8]| w.write_all(bytes).map_err(io_err);
-    let field = |name: &str, v: std::io::Result<Vec<u8>>| -> Result<Vec<u8>, Error> {
-        let mut b = format!("  \"{name}\": ").into_bytes();
-        b.extend(v.map_err(io_err)?);
-        b.extend_from_slice(b",\n");
-        Ok(b)
+    let mut mw = ModelWriter {
+        w,
+        io_err,
+        first: true,
     };
-    put(b"{\n")?;
-    put(&field("model_version", pretty(&frame.model_version, 2))?)?;
-    put(&field("tool", pretty(&frame.tool, 2))?)?;
-    put(&field("input", pretty(&frame.input, 2))?)?;
-    put(&field("project", pretty(&frame.project, 2))?)?;
-    put(&field("family", pretty(&frame.family, 2))?)?;
-    put(&field("basis", pretty(&frame.basis, 2))?)?;
-    put(&field("shard", pretty(&shard, 2))?)?;
-    put(b"  \"details\": [")?;
+    mw.head(&frame, &shard)?;
     let mut summary = SummaryBuilder::default();
     let mut keys = std::collections::BTreeSet::new();
-    let mut first = true;
     let mut start = range.start;
     while start < range.end {
         let end = (start + CHUNK_DETAILS).min(range.end);
@@ -209,22 +257,33 @@ pub fn write_model(
                     keys.insert(k.clone());
                 }
             }
-            put(if first { b"\n    " } else { b",\n    " })?;
-            first = false;
-            put(&pretty(d, 4).map_err(io_err)?)?;
+            mw.detail(d)?;
         }
         on_chunk(end - range.start);
         start = end;
     }
-    put(if first { b"],\n" } else { b"\n  ],\n" })?;
     let summary = summary.finish();
-    put(&field("summary", pretty(&summary, 2))?)?;
     let used = crate::assess::catalogue_used(engine.family(), keys.iter().map(|k| k.as_str()));
-    put(&field("catalogue_used", pretty(&used, 2))?)?;
-    let mut last = b"  \"cautions\": ".to_vec();
-    last.extend(pretty(&frame.cautions, 2).map_err(io_err)?);
-    last.extend_from_slice(b"\n}\n");
-    put(&last)?;
-    w.flush().map_err(io_err)?;
+    mw.tail(&summary, &used, &frame.cautions)?;
     Ok(summary)
+}
+
+/// A results model held in memory (e.g. merged from parts), written in the same
+/// layout as [`write_model`], so that a merge of parts gives the very bytes of the
+/// unsharded run.
+pub fn write_results(
+    r: &Results,
+    w: &mut dyn Write,
+    io_err: &dyn Fn(std::io::Error) -> Error,
+) -> Result<(), Error> {
+    let mut mw = ModelWriter {
+        w,
+        io_err,
+        first: true,
+    };
+    mw.head(r, &r.shard)?;
+    for d in &r.details {
+        mw.detail(d)?;
+    }
+    mw.tail(&r.summary, &r.catalogue_used, &r.cautions)
 }
