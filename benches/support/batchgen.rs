@@ -31,7 +31,7 @@ const KINDS: [(&str, f64, &str, f64, f64); 6] = [
         "butt-transverse-shop-flat",
         0.0,
         "bottom-flange butt splice",
-        4.1,
+        4.4,
         32.0,
     ),
     (
@@ -45,7 +45,7 @@ const KINDS: [(&str, f64, &str, f64, f64); 6] = [
         "attachment-longitudinal-over-100",
         0.0,
         "longitudinal bracket on the bottom flange",
-        4.6,
+        7.0,
         20.0,
     ),
     (

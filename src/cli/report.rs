@@ -23,6 +23,10 @@ pub struct ReportArgs {
     /// Keep the generated Typst source and plots in <OUT>-typst/ beside the PDF.
     #[arg(long)]
     pub keep_source: bool,
+    /// Details with a full sheet: all, failing, above:U, top:N or ids:A,B,... [default: all
+    /// up to 200 details, else top:100]. Every detail is listed in the summary table.
+    #[arg(long, value_name = "RULE", value_parser = parse_sheets)]
+    pub sheets: Option<crate::report::sheets::SheetSelection>,
     /// Write PDF/A-2b.
     #[arg(long)]
     pub pdf_a: bool,
@@ -32,6 +36,10 @@ pub struct ReportArgs {
     /// Seconds typst may take before it is stopped (no PDF is then written).
     #[arg(long, value_name = "SECONDS", default_value_t = 600, value_parser = clap::value_parser!(u64).range(1..=86_400))]
     pub typst_timeout: u64,
+}
+
+fn parse_sheets(s: &str) -> Result<crate::report::sheets::SheetSelection, String> {
+    crate::report::sheets::SheetSelection::parse(s)
 }
 
 /// A `.json` file is a results model; anything else a project file.
@@ -86,6 +94,7 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         creation_timestamp: None,
         timeout: Some(std::time::Duration::from_secs(a.typst_timeout)),
         inputs,
+        sheets: a.sheets.clone().unwrap_or_default(),
     };
     let pending = crate::report::prepare_report(results, &opts)?;
     let s = &results.summary;

@@ -6,6 +6,7 @@ pub mod fit_sheet;
 mod glyph_ranges;
 pub mod glyphs;
 pub mod plots;
+pub mod sheets;
 pub mod templates;
 pub mod typst;
 
@@ -38,6 +39,8 @@ pub struct ReportOptions {
     pub timeout: Option<std::time::Duration>,
     /// The run's inputs, which the PDF and the kept source must not replace.
     pub inputs: crate::files::write::Inputs,
+    /// Which details get a full sheet (all are in the summary table).
+    pub sheets: sheets::SheetSelection,
 }
 
 /// The generated files of one package, before compilation.
@@ -131,10 +134,11 @@ pub fn parse_epoch(t: &str) -> Result<i64, Error> {
 }
 
 /// Everything the templates see: the results model as `r`, plus file names of plots.
-pub fn template_context(r: &Results, plot_files: &PlotFiles) -> Value {
+pub fn template_context(r: &Results, plot_files: &PlotFiles, sheets: &Sheets) -> Value {
     json!({
         "r": r,
         "plots": plot_files,
+        "sheets": sheets,
         "meta": {
             "short_hash": &r.input.sha256[..r.input.sha256.len().min(12)],
             "typst_version": TYPST_VERSION,
@@ -143,7 +147,45 @@ pub fn template_context(r: &Results, plot_files: &PlotFiles) -> Value {
     })
 }
 
-/// Plot file names, by detail index and component.
+/// The details with a full sheet: their indices in project order, the rule in words,
+/// and per detail whether it has one (for the summary table's mark).
+#[derive(Debug, Clone, Default, serde::Serialize)]
+pub struct Sheets {
+    pub indices: Vec<usize>,
+    pub rule: String,
+    pub count: usize,
+    /// Ids of the details with a sheet (the summary table marks them).
+    pub ids: Vec<String>,
+    #[serde(skip)]
+    pub has_sheet: Vec<bool>,
+}
+
+impl Sheets {
+    /// Every detail with a sheet.
+    pub fn all(r: &Results) -> Sheets {
+        Sheets::of(
+            r,
+            (0..r.details.len()).collect(),
+            "every detail has a sheet".into(),
+        )
+    }
+
+    pub fn of(r: &Results, indices: Vec<usize>, rule: String) -> Sheets {
+        let mut has_sheet = vec![false; r.details.len()];
+        for &i in &indices {
+            has_sheet[i] = true;
+        }
+        Sheets {
+            count: indices.len(),
+            ids: indices.iter().map(|&i| r.details[i].id.clone()).collect(),
+            indices,
+            rule,
+            has_sheet,
+        }
+    }
+}
+
+/// Plot file names, by detail index and component (empty for a detail without sheet).
 #[derive(Debug, Clone, Default, serde::Serialize)]
 pub struct PlotFiles {
     pub utilisation: String,
@@ -166,6 +208,15 @@ pub struct CountedPlots {
 
 /// Render plots, templates and the echoed project file into build files.
 pub fn build_files(r: &Results, template_dir: Option<&Path>) -> Result<BuildFiles, Error> {
+    build_files_for(r, template_dir, &Sheets::all(r))
+}
+
+/// Build files with sheets for the chosen details only (figures drawn for those only).
+pub fn build_files_for(
+    r: &Results,
+    template_dir: Option<&Path>,
+    sheets: &Sheets,
+) -> Result<BuildFiles, Error> {
     let mut files: Vec<(String, Vec<u8>)> = Vec::new();
     let mut pf = PlotFiles {
         utilisation: "plots/utilisation.svg".into(),
@@ -177,6 +228,10 @@ pub fn build_files(r: &Results, template_dir: Option<&Path>) -> Result<BuildFile
     ));
     for (i, d) in r.details.iter().enumerate() {
         let mut comps = Vec::new();
+        if !sheets.has_sheet[i] {
+            pf.details.push(comps);
+            continue;
+        }
         for c in &d.components {
             let sn = format!("plots/d{i:05}-{}-sn.svg", c.component);
             files.push((
@@ -198,7 +253,7 @@ pub fn build_files(r: &Results, template_dir: Option<&Path>) -> Result<BuildFile
         }
         pf.details.push(comps);
     }
-    let ctx = template_context(r, &pf);
+    let ctx = template_context(r, &pf, sheets);
     let main = templates::render(&ctx, template_dir)?;
     files.push(("main.typ".into(), main.into_bytes()));
     files.push(("project.yaml".into(), r.input.text.clone().into_bytes()));
@@ -228,7 +283,8 @@ pub fn prepare_report(r: &Results, opts: &ReportOptions) -> Result<typst::Compil
         .unwrap_or_else(|| PathBuf::from(default_output_name(r)));
     // Refuse a bad output before the work of typesetting.
     crate::files::write::check_target(&out, &opts.inputs)?;
-    let build = build_files(r, opts.templates.as_deref())?;
+    let (indices, rule) = opts.sheets.select(r)?;
+    let build = build_files_for(r, opts.templates.as_deref(), &Sheets::of(r, indices, rule))?;
     if let Some(sig) = crate::files::cleanup::interrupted() {
         return Err(Error::Interrupted(sig));
     }

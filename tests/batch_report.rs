@@ -1,0 +1,112 @@
+//! The package of a large project: full sheets for the chosen details only, every
+//! detail in the summary table, the rule stated; the same package from merged shards.
+
+#[path = "safety_common/mod.rs"]
+mod common;
+
+use std::path::Path;
+
+use common::{hall, run_in};
+
+fn pdf_text(pdf: &Path) -> String {
+    let out = std::process::Command::new("pdftotext")
+        .args(["-layout"])
+        .arg(pdf)
+        .arg("-")
+        .output()
+        .expect("pdftotext (poppler-utils; .ci/install-tools installs it)");
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+fn report(dir: &Path, args: &[&str]) -> String {
+    let (code, _, err) = run_in(dir, args);
+    assert!(code <= 1, "{args:?}: {err}");
+    err
+}
+
+#[test]
+fn sheets_for_the_chosen_details_and_every_detail_in_the_summary() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    // 250 details: over the all-sheets default of 200
+    hall(d, 250, 0);
+    report(d, &["report", "project.yaml", "-o", "default.pdf"]);
+    let text = pdf_text(&d.join("default.pdf"));
+    assert!(text.contains("DETAIL SHEET 1 OF 100"), "default sheets");
+    assert!(text.contains("DETAIL SHEET 100 OF 100"));
+    assert!(!text.contains("DETAIL SHEET 101"));
+    assert!(text.contains("sheets for the 100 details of highest utilisation"));
+    // every detail id appears in the summary table (ids G001-01 ... of the hall)
+    let csv = run_in(d, &["assess", "project.yaml", "--csv"]).1;
+    let ids: Vec<String> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap().to_string())
+        .collect();
+    assert_eq!(ids.len(), 250);
+    for id in &ids {
+        assert!(text.contains(id.as_str()), "{id} missing from the package");
+    }
+    // named details only
+    report(
+        d,
+        &[
+            "report",
+            "project.yaml",
+            "--sheets",
+            &format!("ids:{},{}", ids[3], ids[7]),
+            "-o",
+            "two.pdf",
+        ],
+    );
+    let text = pdf_text(&d.join("two.pdf"));
+    assert!(text.contains("DETAIL SHEET 2 OF 2"));
+    assert!(!text.contains("DETAIL SHEET 3"));
+    assert!(text.contains("sheets for the details named by the engineer"));
+    // an unknown id is bad input, with the nearest id suggested, and no PDF
+    let (code, _, err) = run_in(
+        d,
+        &[
+            "report",
+            "project.yaml",
+            "--sheets",
+            &format!("ids:{}x", ids[3]),
+            "-o",
+            "bad.pdf",
+        ],
+    );
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains(&format!("did you mean `{}`", ids[3])), "{err}");
+    assert!(!d.join("bad.pdf").exists());
+    let (code, _, err) = run_in(d, &["report", "project.yaml", "--sheets", "top:0"]);
+    assert_eq!(code, 2, "{err}");
+    // the same package from the merged results of three shards
+    let mut parts = vec!["merge".to_string()];
+    for k in 1..=3 {
+        let name = format!("p{k}.json");
+        report(
+            d,
+            &[
+                "assess",
+                "project.yaml",
+                "--json",
+                "--quiet",
+                "--shard",
+                &format!("{k}/3"),
+                "-o",
+                &name,
+            ],
+        );
+        parts.push(name);
+    }
+    parts.extend(["-o".into(), "all.json".into()]);
+    let args: Vec<&str> = parts.iter().map(|s| s.as_str()).collect();
+    report(d, &args);
+    report(d, &["report", "all.json", "-o", "merged.pdf"]);
+    let a = std::fs::read(d.join("default.pdf")).unwrap();
+    let b = std::fs::read(d.join("merged.pdf")).unwrap();
+    assert!(
+        a == b,
+        "the package from merged shards differs from the direct one"
+    );
+}
