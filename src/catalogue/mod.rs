@@ -20,6 +20,10 @@ pub const EMBEDDED: &[(&str, &str)] = &[
         include_str!("../../joint-classes/en1993-1-9.yaml"),
     ),
     ("iiw.yaml", include_str!("../../joint-classes/iiw.yaml")),
+    (
+        "dnv-rp-c203.yaml",
+        include_str!("../../joint-classes/dnv-rp-c203.yaml"),
+    ),
 ];
 
 /// The current version of the family file format.
@@ -445,6 +449,14 @@ impl Family {
     ) -> Option<String> {
         let envs = self.environments.as_ref()?;
         Some(detail.or(project).unwrap_or(&envs.default).to_string())
+    }
+
+    /// Names of the family's environments (none for a family without them).
+    pub fn environment_names(&self) -> Vec<String> {
+        self.environments
+            .as_ref()
+            .map(|e| e.cases.keys().cloned().collect())
+            .unwrap_or_default()
     }
 
     /// The default number of standard deviations below the mean (0 without a rule).
@@ -874,14 +886,6 @@ impl Family {
                     "published classes need an `environments` section naming the environments their curves are given for",
                 ));
             };
-            for cat in &def.categories_mpa {
-                if !def.classes.values().any(|k| k.category_mpa == *cat) {
-                    return Err(FamilyProblem::new(
-                        cp.key("categories_mpa"),
-                        format!("category {cat} has no published class"),
-                    ));
-                }
-            }
             let mut seen: Vec<f64> = Vec::new();
             for (name, class) in &def.classes {
                 let kp = cp.key("classes").key(name);
@@ -941,6 +945,14 @@ impl Family {
                             ));
                         }
                     }
+                }
+            }
+            for cat in &def.categories_mpa {
+                if !def.classes.values().any(|k| k.category_mpa == *cat) {
+                    return Err(FamilyProblem::new(
+                        cp.key("categories_mpa"),
+                        format!("category {cat} has no published class"),
+                    ));
                 }
             }
         }
@@ -1220,11 +1232,12 @@ mod tests {
 
     const EN: &str = include_str!("../../joint-classes/en1993-1-9.yaml");
     const IIW: &str = include_str!("../../joint-classes/iiw.yaml");
+    const DNV: &str = include_str!("../../joint-classes/dnv-rp-c203.yaml");
 
     #[test]
     fn embedded_families_load_and_check() {
         let lib = Library::load(None).unwrap();
-        assert_eq!(lib.ids(), vec!["en1993-1-9", "iiw"]);
+        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
         let en = lib.get("en1993-1-9").unwrap();
         // EN 1993-1-9 Fig. 7.1: 14 normal-stress categories 160 ... 36
         assert_eq!(en.curves.normal.categories_mpa.len(), 14);
@@ -1538,6 +1551,57 @@ mod tests {
         }
     }
 
+    #[test]
+    fn published_classes_are_checked_and_located() {
+        for (from, to, at, path, what) in [
+            // a later log a must meet the knee of the segment before (within 1 %)
+            (
+                "{log_a: 15.606, slope_m: 5}]\n          seawater-cp: [{log_a: 11.764",
+                "{log_a: 15.806, slope_m: 5}]\n          seawater-cp: [{log_a: 11.764",
+                "15.806",
+                "curves.normal.classes.D.curves.air[1].log_a",
+                "more than 1 % apart",
+            ),
+            (
+                "air: [{log_a: 12.164, slope_m: 3",
+                "air: [{log_a: .nan, slope_m: 3",
+                ".nan, slope_m: 3",
+                "curves.normal.classes.D.curves.air[0].log_a",
+                "log_a must be a finite number",
+            ),
+            (
+                "free-corrosion: [{log_a: 11.687, slope_m: 3}]",
+                "free-corrsion: [{log_a: 11.687, slope_m: 3}]",
+                ": [{log_a: 12.164",
+                "curves.normal.classes.D.curves",
+                "class `D` gives no curve for environment `free-corrosion`",
+            ),
+            (
+                "  default: air",
+                "  default: dry",
+                "dry",
+                "environments.default",
+                "default environment `dry` is not one of the cases",
+            ),
+            (
+                "      B1:\n        category_mpa: 160",
+                "      B1:\n        category_mpa: 161",
+                "161",
+                "curves.normal.classes.B1.category_mpa",
+                "class `B1`: category 161 is not in the category list",
+            ),
+            (
+                "exponent: 0.25, source: \"DNV-RP-C203 2.4.3: tubular",
+                "exponent: 1.25, source: \"DNV-RP-C203 2.4.3: tubular",
+                "1.25",
+                "size_rule.exponent",
+                "size_rule.exponent must lie between 0 and 1, got 1.25",
+            ),
+        ] {
+            assert_refused(DNV, from, to, at, path, what);
+        }
+    }
+
     fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
         let p = dir.join(name);
         std::fs::write(&p, text).unwrap();
@@ -1585,7 +1649,7 @@ mod tests {
             &EN.replace("data_version: \"", "data_version: \"firm-"),
         );
         let lib = Library::load(Some(dir.path())).unwrap();
-        assert_eq!(lib.ids(), vec!["en1993-1-9", "iiw"]);
+        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
         let en = lib.get("en1993-1-9").unwrap();
         assert!(en.data_version.starts_with("firm-"));
         assert_eq!(en.origin, p.display().to_string());

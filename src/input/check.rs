@@ -473,10 +473,7 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
                 || b.key("environment"),
                 "environment",
                 env,
-                fam.environments
-                    .as_ref()
-                    .map(|e| e.cases.keys().cloned().collect())
-                    .unwrap_or_default(),
+                fam.environment_names(),
             );
         }
         if let Some(k) = &file.basis.std_devs_below_mean {
@@ -761,10 +758,7 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 || p().key("environment"),
                 "environment",
                 env,
-                fam.environments
-                    .as_ref()
-                    .map(|e| e.cases.keys().cloned().collect())
-                    .unwrap_or_default(),
+                fam.environment_names(),
             );
         }
         if let Some(case) = &det.mean_stress_case {
