@@ -20,6 +20,10 @@ pub struct ResolvedBasis {
     pub check_source: String,
     /// Constant amplitude: measure, the damage limit it is equivalent to, and source.
     pub constant_amplitude: (UtilisationForm, f64, String),
+    /// The project's environment for published classes (a detail may name its own).
+    pub environment: Option<String>,
+    /// Standard deviations of log N below the mean, for families publishing mean curves.
+    pub std_devs: Option<FactorUsed>,
 }
 
 fn factor(family_value: f64, source: &str, ov: &Option<crate::input::Override>) -> FactorUsed {
@@ -97,6 +101,11 @@ pub fn resolve_basis(file: &ProjectFile, fam: &Family) -> ResolvedBasis {
         check_form: v.utilisation,
         check_source: v.source.clone(),
         constant_amplitude,
+        environment: fam.environment_in_force(None, b.environment.as_deref()),
+        std_devs: fam
+            .design_curve
+            .as_ref()
+            .map(|d| factor(d.default_std_devs, &d.source, &b.std_devs_below_mean)),
     }
 }
 
@@ -168,6 +177,36 @@ pub(super) fn basis_used(file: &ProjectFile, fam: &Family, basis: &ResolvedBasis
             variant,
             source,
         });
+    }
+    if fam.curves.normal.classes.len() + fam.curves.shear.classes.len() > 0 {
+        method.push(format!(
+            "Each {} stands for a class whose curve the code publishes as log N = log a − m·log Δσ per segment; that class curve (its own slopes and knees) is used, reduced by ks and γMf as above.",
+            fam.category_symbol.normal
+        ));
+    }
+    if let Some(envs) = &fam.environments {
+        let env = basis.environment.clone().unwrap_or(envs.default.clone());
+        method.push(format!(
+            "Environment `{env}` ({}) for every detail that names none; environments: {} ({}).",
+            envs.cases.get(&env).map_or("", |e| e.name.as_str()),
+            envs.cases
+                .iter()
+                .map(|(k, e)| format!("`{k}` = {}", e.name))
+                .collect::<Vec<_>>()
+                .join("; "),
+            envs.source
+        ));
+    }
+    if let Some(k) = &basis.std_devs {
+        method.push(format!(
+            "Design curves lie {} standard deviations of log N below the mean curves (log a_d = log a − k·σ(log N); {}{}).",
+            k.value,
+            k.source,
+            k.reason
+                .as_ref()
+                .map(|r| format!("; reason: {r}"))
+                .unwrap_or_default()
+        ));
     }
     method.push(format!(
         "Each stress component is checked {} ({}).",

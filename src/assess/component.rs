@@ -7,7 +7,9 @@ use super::curve::SnCurve;
 use super::fmt_cycles;
 use super::verify::{Part, Prepared};
 use super::ResolvedBasis;
-use crate::catalogue::{CatalogueEntry, Component, Family, MeanStressCase, UtilisationForm};
+use crate::catalogue::{
+    CatalogueEntry, ClassCurve, Component, Family, MeanStressCase, UtilisationForm,
+};
 use crate::histories::{ComponentHistory, DetailHistory};
 use crate::input::{Amplitude, Detail};
 use crate::results::*;
@@ -29,6 +31,10 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) curve_variant: Option<String>,
     /// Where the variant comes from: `catalogue entry` or `project basis`.
     pub(super) curve_from: &'static str,
+    /// Environment of the family's published classes: the detail's, else the project's.
+    pub(super) environment: Option<String>,
+    /// Stress concentration factor on the nominal stress (1 when none is given).
+    pub(super) scf: f64,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -119,6 +125,12 @@ pub(super) fn component_setups<'a>(
                 ),
             );
         }
+        if let Some(k) = det.scf.filter(|k| *k != 1.0) {
+            found.notes.push(format!(
+                "{} stress: the given nominal ranges carry a stress concentration factor SCF = {k}; the resistance is stated on nominal stress as ks·ΔσC/SCF (DNV-RP-C203 2.3, from memory).",
+                comp.as_str()
+            ));
+        }
         setups.push(ComponentSetup {
             comp,
             category,
@@ -131,6 +143,11 @@ pub(super) fn component_setups<'a>(
             amplitude: ci.amplitude,
             curve_variant,
             curve_from,
+            environment: det
+                .environment
+                .clone()
+                .or_else(|| basis.environment.clone()),
+            scf: det.scf.unwrap_or(1.0),
         });
     }
     setups
@@ -144,14 +161,27 @@ struct Curves {
     design: SnCurve,
     unit: SnCurve,
     ca_limit_ratio: Option<f64>,
+    /// Curve reference range over the category, divided by the SCF (1 for a
+    /// category-relative curve without SCF): what a category is worth on this curve.
+    category_scale: f64,
+    class: Option<ClassCurve>,
 }
 
 fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
-    let segs = fam
-        .segments(s.comp, s.curve_variant.as_deref())
-        .unwrap_or(&fam.curves.get(s.comp).segments);
     let def = fam.curves.get(s.comp);
-    let corrected = s.size.factor * s.category;
+    // A published class replaces the category-relative segments (joint-classes/README.md,
+    // `classes`): its own slopes and knees, through its own range at the reference cycles.
+    let class = class_curve(fam, basis, s);
+    let segs = match &class {
+        Some(c) => &c.segments[..],
+        None => fam
+            .segments(s.comp, s.curve_variant.as_deref())
+            .unwrap_or(&def.segments),
+    };
+    let base = class.as_ref().map_or(s.category, |c| c.reference_range_mpa);
+    // Resistance on nominal stress: ks·ΔσC/SCF (DNV-RP-C203 2.3: local stress =
+    // SCF·nominal stress, from memory; SCF = 1 without one)
+    let corrected = s.size.factor * base / s.scf;
     // Design resistance ΔσC,d = ks·ΔσC/γMf (EN 1993-1-9 eq. (8.2) denominator, 7.2.2)
     let design_ref = corrected / basis.gamma_mf.value;
     let characteristic = SnCurve::new(segs, fam.reference_cycles, corrected);
@@ -159,7 +189,9 @@ fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
     let unit = characteristic.scaled(1.0 / corrected);
     let ca_limit_ratio = def
         .constant_amplitude_limit_knee
-        .map(|k| unit.knees[k - 1].1);
+        .filter(|_| class.as_ref().is_none_or(|c| c.constant_amplitude_limit))
+        .and_then(|k| unit.knees.get(k - 1))
+        .map(|k| k.1);
     Curves {
         corrected,
         design_ref,
@@ -167,7 +199,16 @@ fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
         design,
         unit,
         ca_limit_ratio,
+        category_scale: base / s.category / s.scf,
+        class,
     }
+}
+
+/// The published class curve of a component, in its environment and below the mean
+/// by the project's number of standard deviations; `None` for category-relative curves.
+fn class_curve(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Option<ClassCurve> {
+    let k = basis.std_devs.as_ref().map_or(0.0, |f| f.value);
+    fam.class_curve(s.comp, s.category, s.environment.as_deref(), k)
 }
 
 /// Every block with its mean-stress factor and design range (damage still to come);
@@ -381,6 +422,37 @@ fn resistance_at(design: &SnCurve, ca_limit: Option<f64>, n: f64) -> f64 {
     }
 }
 
+/// The published class a component used, stated as its curve.
+fn class_used(fam: &Family, c: &ClassCurve) -> CurveVariantUsed {
+    let env = fam
+        .environments
+        .as_ref()
+        .and_then(|e| e.cases.get(&c.environment));
+    let mut description = format!(
+        "class {} in published form, {}",
+        c.class,
+        env.map_or(c.environment.clone(), |e| e.name.clone())
+    );
+    if c.std_devs > 0.0 {
+        description.push_str(&format!(
+            ", design curve {} standard deviations of log N below the mean",
+            c.std_devs
+        ));
+    }
+    if !c.constant_amplitude_limit {
+        description.push_str(", no constant-amplitude fatigue limit");
+    }
+    CurveVariantUsed {
+        name: format!("{} {}", c.class, c.environment),
+        description,
+        from: "published class".into(),
+        source: match env {
+            Some(e) => format!("{}; {}", c.source, e.source),
+            None => c.source.clone(),
+        },
+    }
+}
+
 /// Assess one component over the design life. Returns its result, what the detail's
 /// verification needs of it, and whether a range lies beyond the validity limit.
 pub(super) fn assess_component(
@@ -531,16 +603,19 @@ pub(super) fn assess_component(
         design_category_mpa: cv.design_ref,
         characteristic_curve: cv.characteristic.to_result_lean(lean),
         design_curve: cv.design.to_result_lean(lean),
-        curve_variant: s
-            .curve_variant
-            .as_ref()
-            .filter(|v| !lean && fam.curves.get(s.comp).variants.contains_key(*v))
-            .map(|v| CurveVariantUsed {
-                name: v.clone(),
-                description: fam.curves.get(s.comp).variants[v].name.clone(),
-                from: s.curve_from.into(),
-                source: fam.curves.get(s.comp).variants[v].source.clone(),
-            }),
+        curve_variant: match &cv.class {
+            Some(c) if !lean => Some(class_used(fam, c)),
+            _ => s
+                .curve_variant
+                .as_ref()
+                .filter(|v| !lean && fam.curves.get(s.comp).variants.contains_key(*v))
+                .map(|v| CurveVariantUsed {
+                    name: v.clone(),
+                    description: fam.curves.get(s.comp).variants[v].name.clone(),
+                    from: s.curve_from.into(),
+                    source: fam.curves.get(s.comp).variants[v].source.clone(),
+                }),
+        },
         constant_amplitude_limit_mpa: ca_limit,
         amplitude: amplitude.as_str().into(),
         amplitude_basis,
@@ -582,7 +657,9 @@ pub(super) fn assess_component(
         source,
         prepared: Prepared::new(&cv.unit, ca_ratio, loads),
         design_ref: cv.design_ref,
-        size_factor: s.size.factor,
+        // what one MPa of category is worth on this curve: ks × (class reference
+        // range / category) / SCF, so the required-category search meets the same curve
+        size_factor: s.size.factor * cv.category_scale,
         range_check,
     };
     (result, part, outside)

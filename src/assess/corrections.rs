@@ -56,11 +56,23 @@ pub(super) fn size_correction(
     comp: Component,
 ) -> SizeCorrection {
     let th = &fam.thickness;
+    // An entry's own size rule replaces the family's reference size and the entry's
+    // exponent (joint-classes/README.md, `size_rule`).
+    let rule = entry.and_then(|e| e.size_rule.as_ref());
+    let reference_mm = rule.map_or(th.reference_mm, |r| r.reference_mm);
     let (exponent, from) = match (
         det.thickness_exponent,
-        entry.and_then(|e| e.thickness_exponent),
+        rule.map(|r| r.exponent)
+            .or(entry.and_then(|e| e.thickness_exponent)),
     ) {
         (Some(n), _) => (Some(n), "set by hand on the detail".to_string()),
+        (None, Some(n)) if rule.is_some() => (
+            Some(n),
+            format!(
+                "catalogue entry's size rule, reference {reference_mm} mm ({})",
+                rule.map_or("", |r| r.source.as_str())
+            ),
+        ),
         (None, Some(n)) => (Some(n), "catalogue entry".to_string()),
         (None, None) => (None, "no size effect for this detail".to_string()),
     };
@@ -75,18 +87,17 @@ pub(super) fn size_correction(
         (crate::catalogue::EffectiveThickness::ToeDistance, Some(l)) if l / t <= 2.0 => 0.5 * l,
         _ => t,
     };
-    let applies =
-        exponent.is_some() && (!th.applies_above_reference_only || t_eff > th.reference_mm);
+    let applies = exponent.is_some() && (!th.applies_above_reference_only || t_eff > reference_mm);
     let factor = match (applies, exponent) {
-        // ks = (t_ref/t_eff)^n (EN 1993-1-9 7.2.2, IIW 3.3.2)
-        (true, Some(n)) => (th.reference_mm / t_eff).powf(n),
+        // ks = (t_ref/t_eff)^n (EN 1993-1-9 7.2.2, IIW 3.3.2, DNV-RP-C203 2.4.3)
+        (true, Some(n)) => (reference_mm / t_eff).powf(n),
         _ => 1.0,
     };
     SizeCorrection {
         applies,
         thickness_mm: t,
         effective_thickness_mm: t_eff,
-        reference_mm: th.reference_mm,
+        reference_mm,
         exponent,
         factor,
         source: th.source.clone(),

@@ -77,7 +77,9 @@ impl SnCurve {
         let (mut n_prev, mut s_prev) = (self.reference_cycles, self.reference_range);
         for (i, &m) in self.slopes.iter().enumerate() {
             let end = self.knees.get(i).map(|k| k.0);
-            if i == 0 && cycles <= self.reference_cycles {
+            // the first line extends without bound to few cycles; a published curve may
+            // reach its first knee before the reference cycles (DNV in seawater)
+            if i == 0 && cycles <= self.reference_cycles && end.is_none_or(|e| cycles <= e) {
                 return s_prev * (n_prev / cycles).powf(1.0 / m);
             }
             match end {

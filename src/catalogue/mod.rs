@@ -20,6 +20,10 @@ pub const EMBEDDED: &[(&str, &str)] = &[
         include_str!("../../joint-classes/en1993-1-9.yaml"),
     ),
     ("iiw.yaml", include_str!("../../joint-classes/iiw.yaml")),
+    (
+        "dnv-rp-c203.yaml",
+        include_str!("../../joint-classes/dnv-rp-c203.yaml"),
+    ),
 ];
 
 /// The current version of the family file format.
@@ -45,6 +49,14 @@ pub struct Family {
     pub validity: Validity,
     pub thickness: Thickness,
     pub mean_stress: MeanStress,
+    /// Environments (in air, seawater with cathodic protection, free corrosion) that
+    /// choose each published class's curve; absent: one environment, the curves given.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub environments: Option<Environments>,
+    /// Design curve a number of standard deviations of log N below the mean curve,
+    /// where the code publishes mean curves with their scatter (BS 7608).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub design_curve: Option<DesignCurveRule>,
     pub catalogue: Vec<CatalogueEntry>,
     /// Where the family came from (embedded or a file); filled by the loader.
     #[serde(skip)]
@@ -96,6 +108,97 @@ pub struct CurveDef {
     pub source: String,
     #[serde(default)]
     pub variants: BTreeMap<String, CurveVariant>,
+    /// Curves in their published form (log a and m per segment), one per class; the
+    /// class whose `category_mpa` is a detail's category replaces `segments` for it.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub classes: BTreeMap<String, PublishedClass>,
+}
+
+/// One class of a family whose curves are published as N = a·Δσ^(-m) per segment.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct PublishedClass {
+    /// The listed category this class stands for (its value in `categories_mpa`).
+    pub category_mpa: f64,
+    /// Standard deviation of log10 N about the mean curve, where the code gives the
+    /// mean curve (the design curve lies `design_curve` standard deviations below).
+    #[serde(default)]
+    pub log_sd: Option<f64>,
+    /// Environment name -> segments in published form.
+    pub curves: BTreeMap<String, Vec<PublishedSegment>>,
+    pub source: String,
+}
+
+/// A segment in published form: log10 N = log_a - m·log10 Δσ, up to `end_cycles`.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct PublishedSegment {
+    /// log10 of the intercept a; required on the first segment. On a later segment it
+    /// is checked against the knee (the curve continues from the knee).
+    #[serde(default)]
+    pub log_a: Option<f64>,
+    pub slope_m: f64,
+    #[serde(default)]
+    pub end_cycles: Option<f64>,
+    #[serde(default)]
+    pub knee_symbol: Option<String>,
+    #[serde(default)]
+    pub knee_name: Option<String>,
+}
+
+/// The environments a family's published classes are given for.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Environments {
+    pub default: String,
+    pub source: String,
+    pub cases: BTreeMap<String, EnvironmentCase>,
+}
+
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct EnvironmentCase {
+    pub name: String,
+    pub source: String,
+    /// Whether the curve's constant-amplitude limit knee applies in this environment
+    /// (free corrosion: no fatigue limit).
+    #[serde(default = "yes")]
+    pub constant_amplitude_limit: bool,
+}
+
+fn yes() -> bool {
+    true
+}
+
+/// Mean minus k standard deviations of log N: the default k and its source.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct DesignCurveRule {
+    pub default_std_devs: f64,
+    pub source: String,
+}
+
+/// A size rule of one catalogue entry: its own reference size and exponent.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct SizeRule {
+    pub reference_mm: f64,
+    pub exponent: f64,
+    pub source: String,
+}
+
+/// A class curve made ready for the engine: plain segments through a reference range.
+#[derive(Debug, Clone)]
+pub struct ClassCurve {
+    pub class: String,
+    pub environment: String,
+    pub std_devs: f64,
+    /// Range at the family's reference cycles on the first segment's line.
+    pub reference_range_mpa: f64,
+    pub segments: Vec<Segment>,
+    /// Whether the constant-amplitude limit knee applies in this environment.
+    pub constant_amplitude_limit: bool,
+    pub source: String,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -288,6 +391,11 @@ pub struct CatalogueEntry {
     /// Absent: the normal curve of the project (main curve or its chosen variant).
     #[serde(default)]
     pub curve_variant: Option<String>,
+    /// This entry's own size rule (reference size and exponent), e.g. bolts with a
+    /// reference diameter or tubular joints; replaces the family's reference thickness
+    /// and the entry's `thickness_exponent`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub size_rule: Option<SizeRule>,
 }
 
 impl CatalogueEntry {
@@ -320,6 +428,94 @@ impl Family {
 
     pub fn has_variant(&self, v: &str) -> bool {
         self.curves.normal.variants.contains_key(v) || self.curves.shear.variants.contains_key(v)
+    }
+
+    /// The published class standing for `category` on a component's curve, if any.
+    pub fn class_of(&self, c: Component, category: f64) -> Option<(&str, &PublishedClass)> {
+        self.curves
+            .get(c)
+            .classes
+            .iter()
+            .find(|(_, k)| k.category_mpa == category)
+            .map(|(n, k)| (n.as_str(), k))
+    }
+
+    /// The environment in force: the detail's, else the project's, else the family's
+    /// default; `None` for a family without environments.
+    pub fn environment_in_force(
+        &self,
+        detail: Option<&str>,
+        project: Option<&str>,
+    ) -> Option<String> {
+        let envs = self.environments.as_ref()?;
+        Some(detail.or(project).unwrap_or(&envs.default).to_string())
+    }
+
+    /// Names of the family's environments (none for a family without them).
+    pub fn environment_names(&self) -> Vec<String> {
+        self.environments
+            .as_ref()
+            .map(|e| e.cases.keys().cloned().collect())
+            .unwrap_or_default()
+    }
+
+    /// The default number of standard deviations below the mean (0 without a rule).
+    pub fn default_std_devs(&self) -> f64 {
+        self.design_curve
+            .as_ref()
+            .map_or(0.0, |d| d.default_std_devs)
+    }
+
+    /// The curve of the class standing for `category`, in `environment`, `std_devs`
+    /// standard deviations of log N below the mean where the class gives its scatter.
+    pub fn class_curve(
+        &self,
+        c: Component,
+        category: f64,
+        environment: Option<&str>,
+        std_devs: f64,
+    ) -> Option<ClassCurve> {
+        let (name, class) = self.class_of(c, category)?;
+        let env = match environment {
+            Some(e) => e.to_string(),
+            None => class.curves.keys().next()?.clone(),
+        };
+        let segs = class.curves.get(&env)?;
+        let first = segs.first()?;
+        let k = if class.log_sd.is_some() {
+            std_devs
+        } else {
+            0.0
+        };
+        // design curve: log a_d = log a - k·σ(log N) (BS 7608 design curves, mean minus
+        // k standard deviations, from memory)
+        let log_a = first.log_a? - k * class.log_sd.unwrap_or(0.0);
+        // range at the reference cycles on N = a·Δσ^(-m): Δσ = (a/N)^(1/m) (DNV-RP-C203
+        // 2.4.3 / BS 7608 S-N relation, from memory)
+        let reference_range_mpa =
+            10f64.powf((log_a - self.reference_cycles.log10()) / first.slope_m);
+        let ca = self
+            .environments
+            .as_ref()
+            .and_then(|e| e.cases.get(&env))
+            .is_none_or(|e| e.constant_amplitude_limit);
+        Some(ClassCurve {
+            class: name.to_string(),
+            environment: env,
+            std_devs: k,
+            reference_range_mpa,
+            segments: segs
+                .iter()
+                .map(|s| Segment {
+                    slope_m: s.slope_m,
+                    end_cycles: s.end_cycles,
+                    knee_symbol: s.knee_symbol.clone(),
+                    knee_name: s.knee_name.clone(),
+                })
+                .collect(),
+            constant_amplitude_limit: ca,
+            source: class.source.clone(),
+        })
     }
 
     /// Variants a project may choose for all its details (`basis.curve_variant`).
@@ -403,6 +599,7 @@ impl Family {
                 }
             }
         }
+        self.check_published()?;
         let pf = root.key("partial_factors");
         positive(
             pf.key("gamma_ff").key("value"),
@@ -587,6 +784,23 @@ impl Family {
                     ));
                 }
             }
+            if let Some(r) = &e.size_rule {
+                let rp = ep.key("size_rule");
+                positive(
+                    rp.key("reference_mm"),
+                    "size_rule.reference_mm",
+                    r.reference_mm,
+                )?;
+                if !(0.0..=1.0).contains(&r.exponent) {
+                    return Err(FamilyProblem::new(
+                        rp.key("exponent"),
+                        format!(
+                            "catalogue entry `{}`: size_rule.exponent must lie between 0 and 1, got {}",
+                            e.key, r.exponent
+                        ),
+                    ));
+                }
+            }
             if let Some(case) = &e.mean_stress_case {
                 if !self.mean_stress.cases.contains_key(case) {
                     return Err(FamilyProblem::new(
@@ -633,6 +847,196 @@ impl Family {
         }
         Ok(())
     }
+}
+
+impl Family {
+    /// Environments, design-curve rule and published classes.
+    fn check_published(&self) -> Result<(), FamilyProblem> {
+        let root = YamlPath::root();
+        if let Some(envs) = &self.environments {
+            let ep = root.key("environments");
+            if !envs.cases.contains_key(&envs.default) {
+                return Err(FamilyProblem::new(
+                    ep.key("default"),
+                    format!(
+                        "default environment `{}` is not one of the cases",
+                        envs.default
+                    ),
+                ));
+            }
+        }
+        if let Some(d) = &self.design_curve {
+            let k = d.default_std_devs;
+            if !(k.is_finite() && (0.0..=4.0).contains(&k)) {
+                return Err(FamilyProblem::new(
+                    root.key("design_curve").key("default_std_devs"),
+                    format!("default_std_devs must lie between 0 and 4, got {k}"),
+                ));
+            }
+        }
+        for c in [Component::Normal, Component::Shear] {
+            let def = self.curves.get(c);
+            let cp = root.key("curves").key(c.as_str());
+            if def.classes.is_empty() {
+                continue;
+            }
+            let Some(envs) = &self.environments else {
+                return Err(FamilyProblem::new(
+                    cp.key("classes"),
+                    "published classes need an `environments` section naming the environments their curves are given for",
+                ));
+            };
+            let mut seen: Vec<f64> = Vec::new();
+            for (name, class) in &def.classes {
+                let kp = cp.key("classes").key(name);
+                if !def.categories_mpa.contains(&class.category_mpa) {
+                    return Err(FamilyProblem::new(
+                        kp.key("category_mpa"),
+                        format!(
+                            "class `{name}`: category {} is not in the category list",
+                            class.category_mpa
+                        ),
+                    ));
+                }
+                if seen.contains(&class.category_mpa) {
+                    return Err(FamilyProblem::new(
+                        kp.key("category_mpa"),
+                        format!(
+                            "class `{name}`: category {} stands for another class too",
+                            class.category_mpa
+                        ),
+                    ));
+                }
+                seen.push(class.category_mpa);
+                if let Some(sd) = class.log_sd {
+                    positive(kp.key("log_sd"), "log_sd", sd)?;
+                    if self.design_curve.is_none() {
+                        return Err(FamilyProblem::new(
+                            kp.key("log_sd"),
+                            format!("class `{name}` gives log_sd, but the family has no `design_curve` rule saying how many standard deviations below the mean to design"),
+                        ));
+                    }
+                }
+                for env in envs.cases.keys() {
+                    if !class.curves.contains_key(env) {
+                        return Err(FamilyProblem::new(
+                            kp.key("curves"),
+                            format!("class `{name}` gives no curve for environment `{env}`"),
+                        ));
+                    }
+                }
+                for (env, segs) in &class.curves {
+                    let sp = kp.key("curves").key(env);
+                    let Some(case) = envs.cases.get(env) else {
+                        return Err(FamilyProblem::new(
+                            sp,
+                            format!("class `{name}`: `{env}` is not one of the environments"),
+                        ));
+                    };
+                    check_published_segments(segs, &sp)?;
+                    if let (Some(k), true) = (
+                        def.constant_amplitude_limit_knee,
+                        case.constant_amplitude_limit,
+                    ) {
+                        if !(k <= segs.len() && segs[k - 1].end_cycles.is_some()) {
+                            return Err(FamilyProblem::new(
+                                sp,
+                                format!("constant_amplitude_limit_knee {k} names no knee of class `{name}` in `{env}`; set constant_amplitude_limit: false for the environment or give the knee"),
+                            ));
+                        }
+                    }
+                }
+            }
+            for cat in &def.categories_mpa {
+                if !def.classes.values().any(|k| k.category_mpa == *cat) {
+                    return Err(FamilyProblem::new(
+                        cp.key("categories_mpa"),
+                        format!("category {cat} has no published class"),
+                    ));
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Published segments: a finite log a on the first, positive slopes, rising knees,
+/// an open segment only last, and a later log a that meets the knee within 1 %.
+fn check_published_segments(
+    segs: &[PublishedSegment],
+    path: &YamlPath,
+) -> Result<(), FamilyProblem> {
+    if segs.is_empty() {
+        return Err(FamilyProblem::new(
+            path.clone(),
+            "at least one segment is needed",
+        ));
+    }
+    let mut knee: Option<(f64, f64)> = None;
+    let mut log_a_prev = 0.0;
+    for (i, s) in segs.iter().enumerate() {
+        let sp = path.index(i);
+        positive(sp.key("slope_m"), "slope_m", s.slope_m)?;
+        match (i, s.log_a) {
+            (0, None) => {
+                return Err(FamilyProblem::new(
+                    sp,
+                    "the first published segment needs log_a",
+                ))
+            }
+            (_, Some(a)) if !a.is_finite() => {
+                return Err(FamilyProblem::new(
+                    sp.key("log_a"),
+                    format!("log_a must be a finite number, got {a}"),
+                ))
+            }
+            (0, Some(a)) => log_a_prev = a,
+            (_, Some(a)) => {
+                if let Some((n_k, s_k)) = knee {
+                    // range of this segment at the knee: log Δσ = (log a - log N)/m
+                    let own = 10f64.powf((a - n_k.log10()) / s.slope_m);
+                    if ((own - s_k) / s_k).abs() > 0.01 {
+                        return Err(FamilyProblem::new(
+                            sp.key("log_a"),
+                            format!("segment {}: log_a {a} gives {own:.3} MPa at the knee ({n_k:.3e} cycles), but the segment before ends at {s_k:.3} MPa (more than 1 % apart)", i + 1),
+                        ));
+                    }
+                }
+                log_a_prev = a;
+            }
+            (_, None) => {}
+        }
+        match s.end_cycles {
+            Some(n) if n.is_finite() && n > knee.map_or(0.0, |k| k.0) => {
+                let s_k = match (knee, s.log_a) {
+                    (_, Some(a)) => 10f64.powf((a - n.log10()) / s.slope_m),
+                    (Some((n_prev, s_prev)), None) => s_prev * (n_prev / n).powf(1.0 / s.slope_m),
+                    (None, None) => 10f64.powf((log_a_prev - n.log10()) / s.slope_m),
+                };
+                knee = Some((n, s_k));
+            }
+            Some(n) => {
+                return Err(FamilyProblem::new(
+                    sp.key("end_cycles"),
+                    format!(
+                        "segment {}: end_cycles {n} must be finite, positive and rise",
+                        i + 1
+                    ),
+                ))
+            }
+            None if i + 1 != segs.len() => {
+                return Err(FamilyProblem::new(
+                    sp,
+                    format!(
+                        "segment {}: only the last segment may omit end_cycles",
+                        i + 1
+                    ),
+                ))
+            }
+            None => {}
+        }
+    }
+    Ok(())
 }
 
 /// A problem in a family file: the YAML path of the offending value and what is wrong.
@@ -828,11 +1232,12 @@ mod tests {
 
     const EN: &str = include_str!("../../joint-classes/en1993-1-9.yaml");
     const IIW: &str = include_str!("../../joint-classes/iiw.yaml");
+    const DNV: &str = include_str!("../../joint-classes/dnv-rp-c203.yaml");
 
     #[test]
     fn embedded_families_load_and_check() {
         let lib = Library::load(None).unwrap();
-        assert_eq!(lib.ids(), vec!["en1993-1-9", "iiw"]);
+        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
         let en = lib.get("en1993-1-9").unwrap();
         // EN 1993-1-9 Fig. 7.1: 14 normal-stress categories 160 ... 36
         assert_eq!(en.curves.normal.categories_mpa.len(), 14);
@@ -1146,6 +1551,57 @@ mod tests {
         }
     }
 
+    #[test]
+    fn published_classes_are_checked_and_located() {
+        for (from, to, at, path, what) in [
+            // a later log a must meet the knee of the segment before (within 1 %)
+            (
+                "{log_a: 15.606, slope_m: 5}]\n          seawater-cp: [{log_a: 11.764",
+                "{log_a: 15.806, slope_m: 5}]\n          seawater-cp: [{log_a: 11.764",
+                "15.806",
+                "curves.normal.classes.D.curves.air[1].log_a",
+                "more than 1 % apart",
+            ),
+            (
+                "air: [{log_a: 12.164, slope_m: 3",
+                "air: [{log_a: .nan, slope_m: 3",
+                ".nan, slope_m: 3",
+                "curves.normal.classes.D.curves.air[0].log_a",
+                "log_a must be a finite number",
+            ),
+            (
+                "free-corrosion: [{log_a: 11.687, slope_m: 3}]",
+                "free-corrsion: [{log_a: 11.687, slope_m: 3}]",
+                ": [{log_a: 12.164",
+                "curves.normal.classes.D.curves",
+                "class `D` gives no curve for environment `free-corrosion`",
+            ),
+            (
+                "  default: air",
+                "  default: dry",
+                "dry",
+                "environments.default",
+                "default environment `dry` is not one of the cases",
+            ),
+            (
+                "      B1:\n        category_mpa: 160",
+                "      B1:\n        category_mpa: 161",
+                "161",
+                "curves.normal.classes.B1.category_mpa",
+                "class `B1`: category 161 is not in the category list",
+            ),
+            (
+                "exponent: 0.25, source: \"DNV-RP-C203 2.4.3: tubular",
+                "exponent: 1.25, source: \"DNV-RP-C203 2.4.3: tubular",
+                "1.25",
+                "size_rule.exponent",
+                "size_rule.exponent must lie between 0 and 1, got 1.25",
+            ),
+        ] {
+            assert_refused(DNV, from, to, at, path, what);
+        }
+    }
+
     fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
         let p = dir.join(name);
         std::fs::write(&p, text).unwrap();
@@ -1193,7 +1649,7 @@ mod tests {
             &EN.replace("data_version: \"", "data_version: \"firm-"),
         );
         let lib = Library::load(Some(dir.path())).unwrap();
-        assert_eq!(lib.ids(), vec!["en1993-1-9", "iiw"]);
+        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
         let en = lib.get("en1993-1-9").unwrap();
         assert!(en.data_version.starts_with("firm-"));
         assert_eq!(en.origin, p.display().to_string());

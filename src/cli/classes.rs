@@ -80,6 +80,33 @@ fn family_listing(f: &Family, out: &mut String) {
             ));
         }
     }
+    for c in [Component::Normal, Component::Shear] {
+        let classes = &f.curves.get(c).classes;
+        if !classes.is_empty() {
+            out.push_str(&format!(
+                "{} stress classes (published log a, m): {}\n",
+                c.as_str(),
+                classes
+                    .iter()
+                    .map(|(n, k)| format!("{n} = {}", short_num(k.category_mpa)))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        }
+    }
+    if let Some(envs) = &f.environments {
+        out.push_str(&format!("environments (default `{}`):\n", envs.default));
+        for (k, e) in &envs.cases {
+            out.push_str(&format!("  {k:<18} {}\n", e.name));
+        }
+    }
+    if let Some(d) = &f.design_curve {
+        out.push_str(&format!(
+            "design curves {} standard deviations of log N below the mean by default ({})\n",
+            short_num(d.default_std_devs),
+            d.source
+        ));
+    }
     out.push_str("\nmean-stress cases:\n");
     for (k, c) in &f.mean_stress.cases {
         out.push_str(&format!("  {k:<18} {}\n", c.name));
@@ -103,13 +130,20 @@ fn family_listing(f: &Family, out: &mut String) {
             e.key,
             o(e.normal_category),
             o(e.shear_category),
-            o(e.thickness_exponent),
+            o(e.size_rule
+                .as_ref()
+                .map(|r| r.exponent)
+                .or(e.thickness_exponent)),
             e.description,
             e.reference,
             e.curve_variant
                 .as_ref()
                 .map(|v| format!(" (own curve `{v}`)"))
                 .unwrap_or_default()
+                + &e.size_rule
+                    .as_ref()
+                    .map(|r| format!(" (own size rule: t_ref {} mm)", short_num(r.reference_mm)))
+                    .unwrap_or_default()
         ));
     }
 }

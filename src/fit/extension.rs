@@ -157,6 +157,7 @@ pub fn extension(
         thickness_exponent: None,
         mean_stress_case: None,
         curve_variant: None,
+        size_rule: None,
     };
     let mut fam = base.clone();
     fam.id = format!("{}-plus-{key}", base.id);

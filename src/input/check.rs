@@ -26,6 +26,9 @@ pub const MAX_COUNT: f64 = 1e15;
 pub const MAX_DESIGN_LIFE_YEARS: f64 = 1e4;
 /// Thickest plate, mm: 10 m of steel is no plate of a welded detail.
 pub const MAX_THICKNESS_MM: f64 = 1e4;
+/// Largest stress concentration factor accepted on a detail (common practice: SCFs of
+/// tubular joints rarely exceed 20).
+pub const MAX_SCF: f64 = 50.0;
 /// Hours in a leap year (366 × 24): no event runs longer in a year.
 pub const MAX_HOURS_PER_YEAR: f64 = 8784.0;
 /// Partial factors and the damage limit overridden by hand must lie in this range
@@ -465,6 +468,44 @@ fn check_basis(c: &mut Checker, file: &ProjectFile, library: &Library, family: O
                 fam.variant_names(),
             );
         }
+        if let Some(env) = &file.basis.environment {
+            c.option_name(
+                || b.key("environment"),
+                "environment",
+                env,
+                fam.environment_names(),
+            );
+        }
+        if let Some(k) = &file.basis.std_devs_below_mean {
+            let kp = b.key("std_devs_below_mean");
+            if fam.design_curve.is_none() {
+                c.push(
+                    kp.clone(),
+                    InputErrorKind::UnknownOption,
+                    format!("family `{}` publishes design curves, not mean curves: std_devs_below_mean does not apply", fam.id),
+                    Some("remove std_devs_below_mean".into()),
+                );
+            }
+            if !(k.value.is_finite() && (0.0..=4.0).contains(&k.value)) {
+                c.push(
+                    kp.key("value"),
+                    InputErrorKind::OutOfRange,
+                    format!("std_devs_below_mean must lie between 0 and 4, got {}", short_num(k.value)),
+                    Some("codes design 2 standard deviations below the mean (about 97.7 % survival); 3 for severe consequences".into()),
+                );
+            }
+            if k.reason.trim().is_empty() {
+                c.push(
+                    kp.key("reason"),
+                    InputErrorKind::MissingField,
+                    "an override of std_devs_below_mean needs a reason".into(),
+                    Some(
+                        "state why the family's default does not apply; the report prints it"
+                            .into(),
+                    ),
+                );
+            }
+        }
         if let Some(ic) = &file.basis.interaction_case {
             let opts = fam
                 .verification
@@ -667,6 +708,16 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 );
             }
         }
+        if let Some(k) = det.scf {
+            if !(k.is_finite() && (1.0..=MAX_SCF).contains(&k)) {
+                c.push(
+                    p().key("scf"),
+                    InputErrorKind::OutOfRange,
+                    format!("scf must lie between 1 and {MAX_SCF}, got {}", short_num(k)),
+                    Some("the stress concentration factor multiplies the nominal stress; it is at least 1".into()),
+                );
+            }
+        }
         if det.normal.is_none() && det.shear.is_none() {
             c.push(
                 p(),
@@ -702,6 +753,14 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
             },
             None => None,
         };
+        if let Some(env) = &det.environment {
+            c.option_name(
+                || p().key("environment"),
+                "environment",
+                env,
+                fam.environment_names(),
+            );
+        }
         if let Some(case) = &det.mean_stress_case {
             c.option_name(
                 || p().key("mean_stress_case"),

@@ -180,6 +180,14 @@ pub struct Basis {
     /// A named interaction case of the family (e.g. IIW `proportional`).
     #[serde(default)]
     pub interaction_case: Option<String>,
+    /// Environment of the family's published classes for every detail (e.g. DNV
+    /// `seawater-cp`); a detail's own `environment` takes precedence.
+    #[serde(default)]
+    pub environment: Option<String>,
+    /// Design curve this many standard deviations of log N below the mean, in place of
+    /// the family's default (families that publish mean curves, e.g. BS 7608).
+    #[serde(default)]
+    pub std_devs_below_mean: Option<Override>,
 }
 
 /// A user's override of a family value; the reason is printed in the report.
@@ -226,6 +234,13 @@ pub struct Detail {
     /// A group name for summaries and figures (a girder, a bay, a member type).
     #[serde(default)]
     pub group: Option<String>,
+    /// Environment of this detail (a family's environments, e.g. `free-corrosion`).
+    #[serde(default)]
+    pub environment: Option<String>,
+    /// Stress concentration factor on the given nominal stress (>= 1), where the
+    /// detail's curve is for a local stress (e.g. DNV tubular joints).
+    #[serde(default)]
+    pub scf: Option<f64>,
     #[serde(default)]
     pub normal: Option<ComponentInput>,
     #[serde(default)]

@@ -572,6 +572,8 @@ impl<'a> Reader<'a> {
                 mean_stress_case: c.text("mean_stress_case"),
                 thickness_exponent: c.number("thickness_exponent")?,
                 group: c.text("group"),
+                environment: None,
+                scf: None,
                 normal: None,
                 shear: None,
             };

@@ -240,9 +240,50 @@ def counts():
     p("σ = E·ε = 210000·1000e-6", D(210000) * D(1000) / D(10) ** 6)
 
 
+def pow10(x):
+    return D(10) ** D(x)
+
+
+def published(log_a, m, n):
+    """Range at n cycles on log N = log a - m·log Δσ (DNV-RP-C203 2.4, BS 7608)."""
+    return pow10((D(log_a) - D(n).log10()) / D(m))
+
+
+def dnv():
+    print("== tests/codes.rs, DNV-RP-C203 (values from memory)")
+    p("DNV D air: Δσ(2e6) = 10^((12.164 - log 2e6)/3)", published("12.164", 3, 2e6))
+    p("DNV D air: knee at 1e7", published("12.164", 3, 1e7))
+    p("DNV B1 air: Δσ(2e6), m = 4", published("15.117", 4, 2e6))
+    p("DNV B1 air: knee at 1e7", published("15.117", 4, 1e7))
+    p("DNV W3 air: knee at 1e7", published("10.970", 3, 1e7))
+    p("DNV D seawater-cp: knee at 1e6", published("11.764", 3, 1e6))
+    p("DNV D seawater-cp: Δσ(2e6) on line 1", published("11.764", 3, 2e6))
+    p("DNV D free corrosion: N(100) = 10^(11.687 - 6)", pow10(D("11.687") - 6))
+    p("DNV ks D t = 50: (25/50)^0.2", root(D(25) / 50, 5))
+    p("DNV tubular t = 64: (32/64)^0.25", root(D(32) / 64, 4))
+    # worked damage sum, D curve, 20 years: 80 MPa 1e4/year, 30 MPa 1e6/year
+    knee = published("12.164", 3, 1e7)
+    n80 = pow10("12.164") / D(80) ** 3
+    n30 = D(1e7) * (knee / 30) ** 5
+    p("DNV D air: N(80) on m = 3", n80)
+    p("DNV D air: N(30) on m = 5 from the knee", n30)
+    p("DNV D air: N(30) from log a2 15.606", pow10("15.606") / D(30) ** 5)
+    dsum = D(20) * (D(1e4) / n80 + D(1e6) / n30)
+    p("DNV D air: D over 20 years", dsum)
+    k1 = published("11.764", 3, 1e6)
+    m80 = D(1e6) * (k1 / 80) ** 5
+    m30 = D(1e6) * (k1 / 30) ** 5
+    p("DNV D seawater-cp: N(80) on m = 5 from the knee", m80)
+    p("DNV D seawater-cp: D over 20 years", D(20) * (D(1e4) / m80 + D(1e6) / m30))
+    f80 = pow10("11.687") / D(80) ** 3
+    f30 = pow10("11.687") / D(30) ** 3
+    p("DNV D free corrosion: D over 20 years", D(20) * (D(1e4) / f80 + D(1e6) / f30))
+
+
 if __name__ == "__main__":
     engine()
     curves()
     plots()
     series()
     counts()
+    dnv()
