@@ -7,6 +7,7 @@
 
 pub mod assess;
 pub mod catalogue;
+pub mod checker;
 pub mod cli;
 pub mod error;
 pub mod files;

@@ -99,6 +99,10 @@ pub struct FamilyInfo {
     /// `embedded` or the override file name.
     pub origin: String,
     pub reference_cycles: f64,
+    /// SHA-256 of the family file the run used, so that a checker can confirm the very
+    /// curve data (absent in models written before it was recorded).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sha256: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]

@@ -188,6 +188,7 @@ impl<'a> Engine<'a> {
                         .unwrap_or_default()
                 },
                 reference_cycles: fam.reference_cycles,
+                sha256: (!fam.sha256.is_empty()).then(|| fam.sha256.clone()),
             },
             basis: basis_used(file, fam, &self.basis),
             summary: SummaryBuilder::default().finish(),

@@ -61,6 +61,9 @@ pub struct Family {
     /// Where the family came from (embedded or a file); filled by the loader.
     #[serde(skip)]
     pub origin: String,
+    /// SHA-256 of the family file's text; filled by the loader.
+    #[serde(skip)]
+    pub sha256: String,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -1223,6 +1226,7 @@ pub fn parse_family(text: &str, path: &Path) -> Result<Family, InputError> {
         .hint("see joint-classes/README.md for the family format")
     })?;
     fam.origin = path.display().to_string();
+    fam.sha256 = crate::files::sha256_hex(text.as_bytes());
     Ok(fam)
 }
 

@@ -12,6 +12,7 @@ pub mod output;
 pub mod progress;
 mod report;
 pub mod stream;
+mod verify;
 
 use std::path::PathBuf;
 
@@ -20,11 +21,12 @@ use clap::{Parser, Subcommand};
 use crate::catalogue::Library;
 use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_INTERNAL, EXIT_PASS};
 use crate::results::{Results, Status};
-pub use assess::AssessArgs;
+pub use assess::{shard_range, AssessArgs};
 pub use count::{CountArgs, ResidueArg, UnitArg};
 pub use fit::{fit_table, FitArgs, MethodArg, StressArg};
 pub use output::{fmt_life, print_err, print_out, table, write_atomic};
 pub use report::ReportArgs;
+pub use verify::VerifyArgs;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -74,6 +76,9 @@ pub enum Command {
         /// Folder to create (it must not hold a project.yaml yet).
         dir: PathBuf,
     },
+    /// Re-run a submitted results model's project and list every input, version and
+    /// value that differs (exit 0 agree, 1 differences, 2 bad input).
+    Verify(VerifyArgs),
 }
 
 /// Parse arguments, run, print errors, and return the process exit code. A panic
@@ -225,6 +230,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Lint { file } => lint::run(file, &library),
         Command::Classes { family } => classes::run(family.as_deref(), &library),
         Command::New { dir } => new::run(dir, &library),
+        Command::Verify(a) => verify::run(a, &library),
     }
 }
 
