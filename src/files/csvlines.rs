@@ -279,6 +279,11 @@ impl CsvLines {
         Ok(())
     }
 
+    /// Bytes of the file consumed so far: the offset of the next line's first byte.
+    pub fn offset(&self) -> u64 {
+        self.bytes - (self.len - self.pos) as u64
+    }
+
     /// The next line into `row` (its text and cells); false at the end of the file.
     pub fn next_row(&mut self, row: &mut Row) -> Result<bool, LineError> {
         loop {

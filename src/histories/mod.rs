@@ -2,6 +2,7 @@
 //! or measured/simulated series counted by rainflow) into a stress spectrum with
 //! cycles per year. The assessment reads only these spectra.
 
+pub mod ingest;
 pub mod rainflow;
 pub mod series;
 pub mod spectrum;
