@@ -109,7 +109,11 @@ fn blocks_of_any_size_count_as_the_reference_does() {
                 let want = count_series_reference(&s, &o).unwrap();
                 for block in [1, 2, 3, 7, 19, 64, 1000, 4096, 1 << 21] {
                     let got = fast(&s, &o, block).unwrap();
-                    same(&got, &want, &format!("{col} gate {gate} {mode:?} block {block}"));
+                    same(
+                        &got,
+                        &want,
+                        &format!("{col} gate {gate} {mode:?} block {block}"),
+                    );
                 }
             }
         }
@@ -191,15 +195,25 @@ fn many_channels_in_one_pass_equal_one_pass_each() {
     for gate in [0.0, 2.0] {
         let o = opts(gate, ResidueMode::Repeated);
         let s = spec(p.clone(), ColumnRef::Index(1), true);
-        let all = count_channels(&s, &Channels::All, &o, Ingest { block_bytes: 999 }, &|_, _| {})
-            .unwrap();
+        let all = count_channels(
+            &s,
+            &Channels::All,
+            &o,
+            Ingest { block_bytes: 999 },
+            &|_, _| {},
+        )
+        .unwrap();
         assert_eq!(
             all.iter().map(|c| c.name.as_str()).collect::<Vec<_>>(),
             ["t", "a", "b", "c"]
         );
         for c in &all {
             let one = spec(p.clone(), ColumnRef::Index(c.position), true);
-            same(&c.counted, &count_series_reference(&one, &o).unwrap(), &c.name);
+            same(
+                &c.counted,
+                &count_series_reference(&one, &o).unwrap(),
+                &c.name,
+            );
         }
         // chosen columns come back in the order asked
         let some = count_channels(

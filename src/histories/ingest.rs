@@ -23,7 +23,7 @@ use std::fs::File;
 
 use rayon::prelude::*;
 
-use crate::files::csvlines::{parse_f64, CsvLines, LineError, Row};
+use crate::files::csvlines::{parse_f64, parse_f64_prefix, CsvLines, LineError, Row};
 use crate::histories::rainflow::{Cycle, RainflowCounter};
 use crate::histories::series::{
     cell_text, counted_series, resolve_column, Column, ColumnRef, CountOptions, CountedSeries,
@@ -104,9 +104,9 @@ fn layout(spec: &SeriesSpec, file: &File) -> Result<Option<Layout>, SeriesError>
         },
         LineError::Io(e) => io(e),
         // next_raw checks neither quotes nor UTF-8
-        LineError::Quote { .. } | LineError::NotUtf8 { .. } => SeriesError::Invalid(
-            "unexpected line error while reading the header".to_string(),
-        ),
+        LineError::Quote { .. } | LineError::NotUtf8 { .. } => {
+            SeriesError::Invalid("unexpected line error while reading the header".to_string())
+        }
     };
     let file_len = file.metadata().map_err(io)?.len();
     let mut bom = [0u8; 3];
@@ -196,9 +196,7 @@ impl Part {
             return;
         }
         let xs = &self.chunk[..];
-        for &x in xs {
-            self.moments.add(x);
-        }
+        self.moments.add_slice(xs);
         let mut rest = xs;
         if self.samples == 0 {
             self.first = xs[0];
@@ -259,11 +257,17 @@ impl Job<'_> {
         data.div_ceil(self.block_bytes)
     }
 
-    fn block(&self, k: u64) -> Result<BlockOut, Fallback> {
-        BLOCK_BUF.with(|b| self.block_in(k, &mut b.borrow_mut()))
+    /// Block `k`, its spectra started from `starts` (one per channel).
+    fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback> {
+        BLOCK_BUF.with(|b| self.block_in(k, starts, &mut b.borrow_mut()))
     }
 
-    fn block_in(&self, k: u64, buf: &mut Vec<u8>) -> Result<BlockOut, Fallback> {
+    fn block_in(
+        &self,
+        k: u64,
+        starts: &[Spectrum],
+        buf: &mut Vec<u8>,
+    ) -> Result<BlockOut, Fallback> {
         let len = self.layout.file_len;
         let start = self.layout.data_start + k * self.block_bytes;
         let end = (start + self.block_bytes).min(len);
@@ -273,20 +277,14 @@ impl Job<'_> {
             parts: Vec::new(),
             error: None,
         };
-        for _ in self.cols {
+        for start in starts {
             out.parts.push(Part {
                 samples: 0,
                 moments: Moments::default(),
                 first: 0.0,
                 first_move: 0.0,
                 counter: None,
-                spectrum: match Spectrum::new(self.opts.bins) {
-                    Ok(s) => s,
-                    Err(e) => {
-                        out.error = Some((0, e.into()));
-                        return Ok(out);
-                    }
-                },
+                spectrum: start.empty_like(),
                 values: Vec::new(),
                 chunk: Vec::with_capacity(CHUNK),
             });
@@ -354,34 +352,39 @@ impl Job<'_> {
             return Err(Fallback);
         }
         let mut vals = vec![0.0f64; self.cols.len()];
+        let eof = from + have as u64 == len;
         while pos < limit {
-            let (line, next) = match memchr::memchr(b'\n', &data[pos..]) {
-                Some(i) => (&data[pos..pos + i], pos + i + 1),
-                None => (&data[pos..], data.len()),
-            };
             let rel = out.lines;
             out.lines += 1;
-            pos = next;
-            if line.len() > MAX_LINE_BYTES {
-                out.error = Some((
-                    rel,
-                    SeriesError::LineTooLong {
-                        path: self.spec.path.clone(),
-                        line: 0,
-                    },
-                ));
-                return Ok(out);
-            }
-            let line = match line.last() {
-                Some(b'\r') => &line[..line.len() - 1],
-                _ => line,
-            };
-            if line.is_empty() {
-                continue;
-            }
-            if let Err(e) = self.parse_line(line, &mut vals) {
-                out.error = Some((rel, e));
-                return Ok(out);
+            if let Some(next) = self.fast_line(data, pos, eof, &mut vals) {
+                pos = next;
+            } else {
+                let (line, next) = match memchr::memchr(b'\n', &data[pos..]) {
+                    Some(i) => (&data[pos..pos + i], pos + i + 1),
+                    None => (&data[pos..], data.len()),
+                };
+                pos = next;
+                if line.len() > MAX_LINE_BYTES {
+                    out.error = Some((
+                        rel,
+                        SeriesError::LineTooLong {
+                            path: self.spec.path.clone(),
+                            line: 0,
+                        },
+                    ));
+                    return Ok(out);
+                }
+                let line = match line.last() {
+                    Some(b'\r') => &line[..line.len() - 1],
+                    _ => line,
+                };
+                if line.is_empty() {
+                    continue;
+                }
+                if let Err(e) = self.parse_line(line, &mut vals) {
+                    out.error = Some((rel, e));
+                    return Ok(out);
+                }
             }
             for (p, &v) in out.parts.iter_mut().zip(&vals) {
                 p.chunk.push(v);
@@ -394,6 +397,53 @@ impl Job<'_> {
             p.flush(gate);
         }
         Ok(out)
+    }
+
+    /// The common case in one pass over the bytes: every needed cell a short plain
+    /// decimal within range, the line well formed. Returns where the next line starts,
+    /// or `None` to read the line by [`Job::parse_line`] (which finds any error).
+    #[inline]
+    fn fast_line(&self, data: &[u8], pos: usize, eof: bool, vals: &mut [f64]) -> Option<usize> {
+        let mut a = pos;
+        let mut field = 0usize;
+        for &(p, ch) in &self.order {
+            while field < p {
+                // skip a cell
+                loop {
+                    match data.get(a) {
+                        Some(b',') => break,
+                        Some(b'\n') | None => return None,
+                        Some(_) => a += 1,
+                    }
+                }
+                a += 1;
+                field += 1;
+            }
+            let (x, k) = parse_f64_prefix(&data[a..])?;
+            let v = x * self.factor;
+            if !(v.is_finite() && v.abs() <= MAX_SERIES_STRESS_MPA) {
+                return None;
+            }
+            vals[ch] = v;
+            a += k;
+            match data.get(a) {
+                Some(b',') => {
+                    a += 1;
+                    field += 1;
+                }
+                Some(b'\n' | b'\r') | None => field = usize::MAX,
+                Some(_) => return None,
+            }
+        }
+        // the line's end: right here, or after cells not needed
+        let next = match data.get(a) {
+            Some(b'\n') => a + 1,
+            Some(b'\r') if data.get(a + 1) == Some(&b'\n') => a + 2,
+            None if eof => a,
+            _ if field != usize::MAX && a > pos => a + memchr::memchr(b'\n', &data[a..])? + 1,
+            _ => return None,
+        };
+        (next - pos <= MAX_LINE_BYTES).then_some(next)
     }
 
     /// The channels' values (MPa) of one line, or the error (its line 0).
@@ -576,8 +626,11 @@ pub fn count_channels(
     let mut k = 0u64;
     while k < blocks {
         let k1 = (k + wave).min(blocks);
-        let outs: Vec<Result<BlockOut, Fallback>> =
-            (k..k1).into_par_iter().map(|b| job.block(b)).collect();
+        let starts: Vec<Spectrum> = totals.iter().map(|t| t.spectrum.empty_like()).collect();
+        let outs: Vec<Result<BlockOut, Fallback>> = (k..k1)
+            .into_par_iter()
+            .map(|b| job.block(b, &starts))
+            .collect();
         for out in outs {
             let Ok(out) = out else {
                 return reference(spec, channels, opts);
@@ -613,7 +666,9 @@ pub fn count_channels(
             });
         }
         let mut spectrum = t.spectrum;
-        let stats = t.counter.finish(opts.mode, &mut |c: Cycle| spectrum.add(&c));
+        let stats = t
+            .counter
+            .finish(opts.mode, &mut |c: Cycle| spectrum.add(&c));
         out.push(ChannelCount {
             name: channel_name(&layout.headers, c.pos, r),
             position: c.pos + 1,

@@ -411,6 +411,19 @@ impl Moments {
         self.m2 += d * (x - self.mean);
     }
 
+    /// Add many samples: their own mean and sum of squared deviations (two passes
+    /// that vectorise), folded in by [`Moments::merge`].
+    pub(crate) fn add_slice(&mut self, xs: &[f64]) {
+        if xs.is_empty() {
+            return;
+        }
+        let n = xs.len() as f64;
+        // mean = Σx/n; M2 = Σ(x − mean)² (two-pass variance, common practice)
+        let mean = sum4(xs.iter().copied()) / n;
+        let m2 = sum4(xs.iter().map(|&x| (x - mean) * (x - mean)));
+        self.merge(&Moments { n, mean, m2 });
+    }
+
     /// Fold in the moments of samples that follow (Chan, Golub and LeVeque's pairwise
     /// update, common practice).
     pub(crate) fn merge(&mut self, o: &Moments) {
@@ -436,6 +449,15 @@ impl Moments {
             0.0
         }
     }
+}
+
+/// Sum in four lanes (so that the compiler may vectorise it).
+fn sum4(xs: impl Iterator<Item = f64>) -> f64 {
+    let mut acc = [0.0f64; 4];
+    for (i, x) in xs.enumerate() {
+        acc[i & 3] += x;
+    }
+    (acc[0] + acc[1]) + (acc[2] + acc[3])
 }
 
 /// Resolved column and its label for messages.
