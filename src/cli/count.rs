@@ -11,6 +11,7 @@ use crate::error::{Error, InputError, InputErrorKind, Location, EXIT_PASS};
 use crate::files::short_num;
 use crate::files::text::data_num;
 use crate::files::write::{check_target, FileId, Inputs, PendingFile};
+use crate::histories::binary::{count_binary, BinaryFormat};
 use crate::histories::ingest::{Channels, Ingest};
 use crate::histories::rainflow::ResidueMode;
 use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
@@ -26,6 +27,20 @@ pub enum UnitArg {
     Mpa,
     /// Strain in µε (needs --modulus-mpa).
     Microstrain,
+}
+
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FormatArg {
+    /// NumPy .npy for a file named *.npy, CSV otherwise.
+    Auto,
+    /// Comma-separated text.
+    Csv,
+    /// Raw little-endian float32 samples, --channels per row.
+    F32,
+    /// Raw little-endian float64 samples, --channels per row.
+    F64,
+    /// NumPy .npy (little-endian float32 or float64, C order).
+    Npy,
 }
 
 #[derive(clap::ValueEnum, Clone, Copy, Debug)]
@@ -50,6 +65,13 @@ pub struct CountArgs {
     /// Count every column of the file in one pass.
     #[arg(long)]
     pub all_columns: bool,
+    /// How the record is stored (binary records are read without parsing; their
+    /// channels are chosen by number).
+    #[arg(long, value_enum, default_value = "auto")]
+    pub format: FormatArg,
+    /// Channels per row of a raw f32/f64 record.
+    #[arg(long, default_value_t = 1)]
+    pub channels: usize,
     /// The first line holds data, not column names.
     #[arg(long)]
     pub no_header: bool,
@@ -352,13 +374,44 @@ fn count_records(
 ) -> Result<Vec<(String, CountedRecord)>, Error> {
     let total = std::fs::metadata(&a.file).map_or(0, |m| m.len());
     let progress = super::progress::Progress::new(total >> 20, "counting MiB", a.quiet);
-    let counted = crate::histories::ingest::count_channels(
-        spec,
-        channels,
-        opts,
-        Ingest::default(),
-        &|done, _| progress.set(done >> 20),
-    );
+    let report = |done: u64, _| progress.set(done >> 20);
+    let binary = match a.format {
+        FormatArg::Auto
+            if a.file
+                .extension()
+                .is_some_and(|e| e.eq_ignore_ascii_case("npy")) =>
+        {
+            Some(BinaryFormat::Npy)
+        }
+        FormatArg::Auto | FormatArg::Csv => None,
+        FormatArg::F32 => Some(BinaryFormat::F32 {
+            channels: a.channels,
+        }),
+        FormatArg::F64 => Some(BinaryFormat::F64 {
+            channels: a.channels,
+        }),
+        FormatArg::Npy => Some(BinaryFormat::Npy),
+    };
+    let counted = match (binary, channels) {
+        (Some(f), Channels::All) => {
+            count_binary(spec, f, None, opts, Ingest::default().block_bytes, &report)
+        }
+        (Some(f), Channels::These(v)) => count_binary(
+            spec,
+            f,
+            Some(v),
+            opts,
+            Ingest::default().block_bytes,
+            &report,
+        ),
+        (None, _) => crate::histories::ingest::count_channels(
+            spec,
+            channels,
+            opts,
+            Ingest::default(),
+            &report,
+        ),
+    };
     progress.finish();
     let counted = counted.map_err(|e| {
         Error::Input(

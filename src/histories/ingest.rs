@@ -86,7 +86,7 @@ struct Layout {
 }
 
 /// Why the fast reader hands a file to the reference reader.
-struct Fallback;
+pub(crate) struct Fallback;
 
 /// Read the header (if any) and the first data row; `Ok(None)` when the file must go
 /// to the reference reader.
@@ -153,13 +153,13 @@ fn layout(spec: &SeriesSpec, file: &File) -> Result<Option<Layout>, SeriesError>
 }
 
 #[cfg(unix)]
-fn read_at(file: &File, buf: &mut [u8], offset: u64) -> std::io::Result<()> {
+pub(crate) fn read_at(file: &File, buf: &mut [u8], offset: u64) -> std::io::Result<()> {
     use std::os::unix::fs::FileExt;
     file.read_exact_at(buf, offset)
 }
 
 #[cfg(not(unix))]
-fn read_at(file: &File, mut buf: &mut [u8], mut offset: u64) -> std::io::Result<()> {
+pub(crate) fn read_at(file: &File, mut buf: &mut [u8], mut offset: u64) -> std::io::Result<()> {
     use std::os::windows::fs::FileExt;
     while !buf.is_empty() {
         match file.seek_read(buf, offset) {
@@ -176,7 +176,7 @@ fn read_at(file: &File, mut buf: &mut [u8], mut offset: u64) -> std::io::Result<
 }
 
 /// One channel's share of one block.
-struct Part {
+pub(crate) struct Part {
     samples: u64,
     moments: Moments,
     first: f64,
@@ -191,7 +191,29 @@ struct Part {
 }
 
 impl Part {
-    fn flush(&mut self, gate: bool) {
+    pub(crate) fn new(start: &Spectrum) -> Part {
+        Part {
+            samples: 0,
+            moments: Moments::default(),
+            first: 0.0,
+            first_move: 0.0,
+            counter: None,
+            spectrum: start.empty_like(),
+            values: Vec::new(),
+            chunk: Vec::with_capacity(CHUNK),
+        }
+    }
+
+    /// Take one sample.
+    #[inline]
+    pub(crate) fn push(&mut self, v: f64, gate: bool) {
+        self.chunk.push(v);
+        if self.chunk.len() == CHUNK {
+            self.flush(gate);
+        }
+    }
+
+    pub(crate) fn flush(&mut self, gate: bool) {
         if self.chunk.is_empty() {
             return;
         }
@@ -225,13 +247,13 @@ impl Part {
 }
 
 /// What one block gave.
-struct BlockOut {
+pub(crate) struct BlockOut {
     /// Lines that start in the block (blank ones included).
-    lines: u64,
-    parts: Vec<Part>,
+    pub(crate) lines: u64,
+    pub(crate) parts: Vec<Part>,
     /// The first bad line: its number within the block (0-based) and the error
     /// (whose line is filled in on merging).
-    error: Option<(u64, SeriesError)>,
+    pub(crate) error: Option<(u64, SeriesError)>,
 }
 
 thread_local! {
@@ -251,17 +273,34 @@ struct Job<'a> {
     block_bytes: u64,
 }
 
-impl Job<'_> {
+/// A record cut into blocks counted on their own and merged in order.
+pub(crate) trait Source: Sync {
+    /// Number of blocks.
+    fn blocks(&self) -> u64;
+    /// Block `k`, its spectra started from `starts` (one per channel); `Err` hands the
+    /// whole record to the reference reader.
+    fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback>;
+    /// Bytes up to the end of block `k` and in all, for progress.
+    fn done_bytes(&self, k: u64) -> (u64, u64);
+}
+
+impl Source for Job<'_> {
     fn blocks(&self) -> u64 {
         let data = self.layout.file_len - self.layout.data_start;
         data.div_ceil(self.block_bytes)
     }
 
-    /// Block `k`, its spectra started from `starts` (one per channel).
     fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback> {
         BLOCK_BUF.with(|b| self.block_in(k, starts, &mut b.borrow_mut()))
     }
 
+    fn done_bytes(&self, k: u64) -> (u64, u64) {
+        let total = self.layout.file_len - self.layout.data_start;
+        ((k * self.block_bytes).min(total), total)
+    }
+}
+
+impl Job<'_> {
     fn block_in(
         &self,
         k: u64,
@@ -277,18 +316,7 @@ impl Job<'_> {
             parts: Vec::new(),
             error: None,
         };
-        for start in starts {
-            out.parts.push(Part {
-                samples: 0,
-                moments: Moments::default(),
-                first: 0.0,
-                first_move: 0.0,
-                counter: None,
-                spectrum: start.empty_like(),
-                values: Vec::new(),
-                chunk: Vec::with_capacity(CHUNK),
-            });
-        }
+        out.parts.extend(starts.iter().map(Part::new));
         let io_err = |e: std::io::Error, out: &mut BlockOut| {
             out.error = Some((
                 0,
@@ -387,10 +415,7 @@ impl Job<'_> {
                 }
             }
             for (p, &v) in out.parts.iter_mut().zip(&vals) {
-                p.chunk.push(v);
-                if p.chunk.len() == CHUNK {
-                    p.flush(gate);
-                }
+                p.push(v, gate);
             }
         }
         for p in &mut out.parts {
@@ -527,6 +552,7 @@ fn at_line(mut e: SeriesError, n: u64) -> SeriesError {
         | SeriesError::OutOfRange { line, .. }
         | SeriesError::LineTooLong { line, .. }
         | SeriesError::ShortRow { line, .. } => *line = n,
+        SeriesError::BadSample { sample, .. } => *sample = n,
         _ => {}
     }
     e
@@ -540,6 +566,21 @@ struct Total {
     samples: u64,
 }
 
+/// The factor from file values to MPa, once the options are checked (before any file
+/// is read).
+pub(crate) fn check_request(spec: &SeriesSpec, opts: &CountOptions) -> Result<f64, SeriesError> {
+    let factor = spec.factor_to_mpa();
+    if !factor.is_finite() || factor == 0.0 {
+        return Err(SeriesError::Invalid(format!(
+            "the factor from file values to MPa must be finite and non-zero, got {factor} (scale {}, unit {:?})",
+            spec.scale, spec.unit
+        )));
+    }
+    RainflowCounter::try_new(opts.gate_mpa)?;
+    Spectrum::new(opts.bins)?;
+    Ok(factor)
+}
+
 /// Count the channels of a CSV record in one pass over the file, on all cores.
 /// `spec.column` is not used; `progress` is told the bytes done and the total.
 pub fn count_channels(
@@ -549,16 +590,7 @@ pub fn count_channels(
     ingest: Ingest,
     progress: &dyn Fn(u64, u64),
 ) -> Result<Vec<ChannelCount>, SeriesError> {
-    let factor = spec.factor_to_mpa();
-    if !factor.is_finite() || factor == 0.0 {
-        return Err(SeriesError::Invalid(format!(
-            "the factor from file values to MPa must be finite and non-zero, got {factor} (scale {}, unit {:?})",
-            spec.scale, spec.unit
-        )));
-    }
-    // options checked before the file is read
-    RainflowCounter::try_new(opts.gate_mpa)?;
-    Spectrum::new(opts.bins)?;
+    let factor = check_request(spec, opts)?;
     let file = crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
         path: spec.path.clone(),
         source,
@@ -610,8 +642,30 @@ pub fn count_channels(
         opts,
         block_bytes: ingest.block_bytes.max(1) as u64,
     };
-    let mut totals = Vec::with_capacity(cols.len());
-    for _ in &cols {
+    let names: Vec<(String, usize)> = cols
+        .iter()
+        .zip(&refs)
+        .map(|(c, r)| (channel_name(&layout.headers, c.pos, r), c.pos + 1))
+        .collect();
+    match run_blocks(spec, &job, &names, opts, layout.first_line, progress)? {
+        Some(v) => Ok(v),
+        None => reference(spec, channels, opts),
+    }
+}
+
+/// Count the blocks of `src` wave by wave on all cores and merge them in order; the
+/// number of the first line (or sample) of the record is `first_line`. `None` when
+/// the record must go to the reference reader.
+pub(crate) fn run_blocks(
+    spec: &SeriesSpec,
+    src: &dyn Source,
+    names: &[(String, usize)],
+    opts: &CountOptions,
+    first_line: u64,
+    progress: &dyn Fn(u64, u64),
+) -> Result<Option<Vec<ChannelCount>>, SeriesError> {
+    let mut totals = Vec::with_capacity(names.len());
+    for _ in names {
         totals.push(Total {
             counter: RainflowCounter::try_new(opts.gate_mpa)?,
             spectrum: Spectrum::new(opts.bins)?,
@@ -619,21 +673,20 @@ pub fn count_channels(
             samples: 0,
         });
     }
-    let blocks = job.blocks();
+    let blocks = src.blocks();
     let wave = (rayon::current_num_threads() * BLOCKS_PER_THREAD).max(1) as u64;
-    let mut line = layout.first_line;
-    let total_bytes = layout.file_len - layout.data_start;
+    let mut line = first_line;
     let mut k = 0u64;
     while k < blocks {
         let k1 = (k + wave).min(blocks);
         let starts: Vec<Spectrum> = totals.iter().map(|t| t.spectrum.empty_like()).collect();
         let outs: Vec<Result<BlockOut, Fallback>> = (k..k1)
             .into_par_iter()
-            .map(|b| job.block(b, &starts))
+            .map(|b| src.block(b, &starts))
             .collect();
         for out in outs {
             let Ok(out) = out else {
-                return reference(spec, channels, opts);
+                return Ok(None);
             };
             if let Some((rel, e)) = out.error {
                 return Err(at_line(e, line + rel));
@@ -655,10 +708,11 @@ pub fn count_channels(
             }
         }
         k = k1;
-        progress((k * job.block_bytes).min(total_bytes), total_bytes);
+        let (done, total) = src.done_bytes(k);
+        progress(done, total);
     }
-    let mut out = Vec::with_capacity(cols.len());
-    for (t, (c, r)) in totals.into_iter().zip(cols.iter().zip(&refs)) {
+    let mut out = Vec::with_capacity(names.len());
+    for (t, (name, position)) in totals.into_iter().zip(names) {
         if t.samples < 2 {
             return Err(SeriesError::TooShort {
                 path: spec.path.clone(),
@@ -670,12 +724,12 @@ pub fn count_channels(
             .counter
             .finish(opts.mode, &mut |c: Cycle| spectrum.add(&c));
         out.push(ChannelCount {
-            name: channel_name(&layout.headers, c.pos, r),
-            position: c.pos + 1,
+            name: name.clone(),
+            position: *position,
             counted: counted_series(stats, &spectrum, &t.moments),
         });
     }
-    Ok(out)
+    Ok(Some(out))
 }
 
 fn channel_name(headers: &[String], pos: usize, r: &ColumnRef) -> String {

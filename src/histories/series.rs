@@ -283,6 +283,26 @@ pub enum SeriesError {
         /// Columns in the first row.
         columns: usize,
     },
+    /// A sample of a binary record that is not a finite stress within bounds.
+    #[error("binary record {path}, sample {sample} (1-based), channel {channel}: {} MPa (after unit and scale) is not a finite stress within ±{} MPa", short_num(*value_mpa), short_num(MAX_SERIES_STRESS_MPA))]
+    BadSample {
+        /// File.
+        path: PathBuf,
+        /// 1-based sample (row) number.
+        sample: u64,
+        /// 1-based channel.
+        channel: usize,
+        /// The value in MPa.
+        value_mpa: f64,
+    },
+    /// A binary record whose header or size is not right.
+    #[error("binary record {path}: {reason}")]
+    BadBinary {
+        /// File.
+        path: PathBuf,
+        /// What is wrong.
+        reason: String,
+    },
     /// The request itself is wrong.
     #[error("invalid time series request: {0}")]
     Invalid(String),
