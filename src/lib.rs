@@ -21,7 +21,7 @@ pub mod starter;
 
 /// The signal stage's modules, also at the crate root for callers that count series
 /// without a project.
-pub use histories::{rainflow, series, spectrum};
+pub use histories::{binary, ingest, rainflow, series, spectrum};
 
 pub use error::{Error, InputError, InputErrorKind};
 

@@ -108,7 +108,7 @@ pub fn rerun(submitted: &Results, project: &Path, library: &Library) -> Result<R
     let total = engine.len();
     let range = match &submitted.shard {
         Some(s) if s.parts > 0 && s.part >= 1 && s.part <= s.parts => {
-            crate::cli::shard_range(s.part, s.parts, total)
+            crate::merge::shard_range(s.part, s.parts, total)
         }
         _ => 0..total,
     };

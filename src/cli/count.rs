@@ -1,4 +1,5 @@
-//! `seamlife count`: rainflow-count one column of a time series into a spectrum.
+//! `seamlife count`: rainflow-count one column, several columns or every column of a
+//! time series into spectra, reading the file once.
 
 use std::io::Write;
 use std::path::PathBuf;
@@ -10,6 +11,8 @@ use crate::error::{Error, InputError, InputErrorKind, Location, EXIT_PASS};
 use crate::files::short_num;
 use crate::files::text::data_num;
 use crate::files::write::{check_target, FileId, Inputs, PendingFile};
+use crate::histories::binary::{count_binary, BinaryFormat};
+use crate::histories::ingest::{Channels, Ingest};
 use crate::histories::rainflow::ResidueMode;
 use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
 use crate::histories::spectrum::{BinRule, SpectrumSpec};
@@ -26,6 +29,20 @@ pub enum UnitArg {
     Microstrain,
 }
 
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FormatArg {
+    /// NumPy .npy for a file named *.npy, CSV otherwise.
+    Auto,
+    /// Comma-separated text.
+    Csv,
+    /// Raw little-endian float32 samples, --channels per row.
+    F32,
+    /// Raw little-endian float64 samples, --channels per row.
+    F64,
+    /// NumPy .npy (little-endian float32 or float64, C order).
+    Npy,
+}
+
 #[derive(clap::ValueEnum, Clone, Copy, Debug)]
 pub enum ResidueArg {
     /// The record repeats in service: close the residue by re-feeding it once.
@@ -39,8 +56,22 @@ pub struct CountArgs {
     /// Time-series file (CSV, comma separated).
     pub file: PathBuf,
     /// Column: header name, or 1-based column number.
+    #[arg(long, required_unless_present_any = ["columns", "all_columns"], conflicts_with_all = ["columns", "all_columns"])]
+    pub column: Option<String>,
+    /// Several columns counted in one pass (names or 1-based numbers, comma separated);
+    /// the spectrum CSV then holds a `channel` column.
+    #[arg(long, value_delimiter = ',', conflicts_with = "all_columns")]
+    pub columns: Vec<String>,
+    /// Count every column of the file in one pass.
     #[arg(long)]
-    pub column: String,
+    pub all_columns: bool,
+    /// How the record is stored (binary records are read without parsing; their
+    /// channels are chosen by number).
+    #[arg(long, value_enum, default_value = "auto")]
+    pub format: FormatArg,
+    /// Channels per row of a raw f32/f64 record.
+    #[arg(long, default_value_t = 1)]
+    pub channels: usize,
     /// The first line holds data, not column names.
     #[arg(long)]
     pub no_header: bool,
@@ -71,62 +102,84 @@ pub struct CountArgs {
     /// Write the spectrum CSV here instead of standard output.
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
-    /// Also write the range histogram as SVG.
+    /// Also write each channel's statistics (samples, cycles, extremes, mean, standard
+    /// deviation, bin widths) as CSV, one row per channel.
+    #[arg(long, value_name = "FILE")]
+    pub stats: Option<PathBuf>,
+    /// Also write the range histogram as SVG (with several columns the name must hold
+    /// `{channel}`, replaced by each column's name).
     #[arg(long, value_name = "FILE")]
     pub svg: Option<PathBuf>,
-    /// Also write the range-mean matrix as an SVG heat map.
+    /// Also write the range-mean matrix as an SVG heat map (`{channel}` as for --svg).
     #[arg(long, value_name = "FILE")]
     pub matrix_svg: Option<PathBuf>,
+    /// No progress bar.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
+/// Placeholder of a figure's file name replaced by the channel's name.
+const CHANNEL_MARK: &str = "{channel}";
+
 pub(super) fn run(a: &CountArgs) -> Result<i32, Error> {
-    let (spec, opts) = count_setup(a)?;
+    let (spec, opts, channels) = count_setup(a)?;
+    let multi = !matches!(&channels, Channels::These(v) if v.len() == 1);
+    for (flag, p) in [("--svg", &a.svg), ("--matrix-svg", &a.matrix_svg)] {
+        if let Some(p) = p {
+            let marked = p.to_string_lossy().contains(CHANNEL_MARK);
+            if multi != marked {
+                return Err(bad_arg(
+                    a,
+                    format!(
+                        "{flag} {}: {}",
+                        p.display(),
+                        if multi {
+                            "with several columns the figure's file name must hold {channel}"
+                        } else {
+                            "{channel} names a figure per column; one column is counted"
+                        }
+                    ),
+                    "e.g. --svg 'hist-{channel}.svg' with --columns or --all-columns",
+                ));
+            }
+        }
+    }
     let mut inputs = Inputs::new();
     inputs.add(&a.file, "the series file being counted");
-    // Every output is checked before the count, and none may be another.
-    let outs: Vec<&PathBuf> = [&a.output, &a.svg, &a.matrix_svg]
-        .into_iter()
-        .flatten()
-        .collect();
-    for (i, p) in outs.iter().enumerate() {
-        check_target(p, &inputs)?;
-        let same = |q: &&PathBuf| {
-            *q == *p || matches!((FileId::of(q), FileId::of(p)), (Some(x), Some(y)) if x == y)
-        };
-        if outs[..i].iter().any(same) {
-            return Err(bad_arg(
-                a,
-                format!("{} is named for two outputs", p.display()),
-                "give -o, --svg and --matrix-svg different file names",
+    // The fixed outputs are checked before the count, and none may be another.
+    check_distinct(a, &[&a.output, &a.stats, &a.svg, &a.matrix_svg], &inputs)?;
+    let recs = count_records(a, &spec, &opts, &channels)?;
+    let csv = spectrum_csv(&recs, multi)?;
+    let mut files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
+    for (i, (name, rec)) in recs.iter().enumerate() {
+        let stem = figure_stem(name, i, &recs);
+        let path = |p: &PathBuf| PathBuf::from(p.to_string_lossy().replace(CHANNEL_MARK, &stem));
+        if let Some(p) = &a.svg {
+            files.push((path(p), crate::report::plots::histogram(rec).into_bytes()));
+        }
+        if let Some(p) = &a.matrix_svg {
+            files.push((
+                path(p),
+                crate::report::plots::matrix_heatmap(rec).into_bytes(),
             ));
         }
     }
-    let rec = count_record(a, &spec, &opts)?;
-    let csv = spectrum_csv(&rec)?;
+    if let Some(p) = &a.stats {
+        files.push((p.clone(), stats_csv(&recs)?));
+    }
+    if let Some(p) = &a.output {
+        files.push((p.clone(), csv.clone()));
+    }
+    let targets: Vec<Option<PathBuf>> = files.iter().map(|(p, _)| Some(p.clone())).collect();
+    check_distinct(a, &targets.iter().collect::<Vec<_>>(), &inputs)?;
     let mut pending = Vec::new();
-    for (p, bytes) in [
-        (
-            &a.svg,
-            a.svg
-                .as_ref()
-                .map(|_| crate::report::plots::histogram(&rec).into_bytes()),
-        ),
-        (
-            &a.matrix_svg,
-            a.matrix_svg
-                .as_ref()
-                .map(|_| crate::report::plots::matrix_heatmap(&rec).into_bytes()),
-        ),
-        (&a.output, a.output.as_ref().map(|_| csv.clone())),
-    ] {
-        if let (Some(p), Some(bytes)) = (p, bytes) {
-            let mut f = PendingFile::new(p, &inputs, ".part")?;
-            f.file().write_all(&bytes).map_err(|source| Error::Output {
-                path: p.clone(),
-                source,
-            })?;
-            pending.push(f);
-        }
+    for (p, bytes) in &files {
+        let mut f = PendingFile::new(p, &inputs, ".part")?;
+        f.file().write_all(bytes).map_err(|source| Error::Output {
+            path: p.clone(),
+            source,
+        })?;
+        pending.push(f);
     }
     if a.output.is_none() {
         print_data(&csv)?;
@@ -134,11 +187,59 @@ pub(super) fn run(a: &CountArgs) -> Result<i32, Error> {
     for f in pending {
         f.commit()?;
     }
-    if let Some(w) = crate::histories::gate_note(&rec) {
-        print_err(&format!("warning: {w}\n"));
+    for (_, rec) in &recs {
+        if let Some(w) = crate::histories::gate_note(rec) {
+            print_err(&format!("warning: {w}\n"));
+        }
+        print_err(&format!("{}\n", summary_line(a, rec)));
     }
-    print_err(&format!("{}\n", summary_line(a, &rec)));
     Ok(EXIT_PASS)
+}
+
+/// Check output targets: each writable, none an input, none named twice.
+fn check_distinct(a: &CountArgs, outs: &[&Option<PathBuf>], inputs: &Inputs) -> Result<(), Error> {
+    let outs: Vec<&PathBuf> = outs.iter().filter_map(|p| p.as_ref()).collect();
+    for (i, p) in outs.iter().enumerate() {
+        check_target(p, inputs)?;
+        let same = |q: &&PathBuf| {
+            *q == *p || matches!((FileId::of(q), FileId::of(p)), (Some(x), Some(y)) if x == y)
+        };
+        if outs[..i].iter().any(same) {
+            return Err(bad_arg(
+                a,
+                format!("{} is named for two outputs", p.display()),
+                "give -o, --stats, --svg and --matrix-svg different file names (and channels different names)",
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// A channel's name as it goes into a file name: letters, digits, `-`, `_` and `.`
+/// kept, anything else `_`; the column's number when nothing is left or two channels
+/// would share it.
+fn figure_stem(name: &str, i: usize, recs: &[(String, CountedRecord)]) -> String {
+    let clean = |n: &str| -> String {
+        n.chars()
+            .map(|c| {
+                if c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.') {
+                    c
+                } else {
+                    '_'
+                }
+            })
+            .collect()
+    };
+    let mine = clean(name);
+    let clash = recs
+        .iter()
+        .enumerate()
+        .any(|(j, (n, _))| j != i && clean(n) == mine);
+    if mine.is_empty() || mine.starts_with('.') || clash {
+        format!("column-{}", i + 1)
+    } else {
+        mine
+    }
 }
 
 fn bad_arg(a: &CountArgs, msg: String, hint: &str) -> Error {
@@ -148,7 +249,7 @@ fn bad_arg(a: &CountArgs, msg: String, hint: &str) -> Error {
 }
 
 /// Check the options and turn them into the series and counting specifications.
-fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions), Error> {
+fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions, Channels), Error> {
     let unit = match (a.unit, a.modulus_mpa) {
         (UnitArg::Mpa, _) => SeriesUnit::Mpa,
         (UnitArg::Microstrain, Some(e)) if e.is_finite() && e > 0.0 && e <= MAX_MODULUS_MPA => {
@@ -209,16 +310,30 @@ fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions), Error> {
             ));
         }
     }
-    let column = match a.column.parse::<usize>() {
-        Ok(0) => {
-            return Err(bad_arg(
-                a,
-                "column numbers start at 1".into(),
-                "use 1 for the first column",
-            ))
-        }
-        Ok(i) => ColumnRef::Index(i),
-        Err(_) => ColumnRef::Name(a.column.clone()),
+    let column_ref = |c: &str| match c.trim().parse::<usize>() {
+        Ok(0) => Err(bad_arg(
+            a,
+            "column numbers start at 1".into(),
+            "use 1 for the first column",
+        )),
+        Ok(i) => Ok(ColumnRef::Index(i)),
+        Err(_) => Ok(ColumnRef::Name(c.to_string())),
+    };
+    let channels = if a.all_columns {
+        Channels::All
+    } else if let Some(c) = &a.column {
+        Channels::These(vec![column_ref(c)?])
+    } else {
+        Channels::These(
+            a.columns
+                .iter()
+                .map(|c| column_ref(c))
+                .collect::<Result<_, _>>()?,
+        )
+    };
+    let column = match &channels {
+        Channels::These(v) if !v.is_empty() => v[0].clone(),
+        _ => ColumnRef::Index(1),
     };
     let spec = SeriesSpec {
         path: a.file.clone(),
@@ -240,7 +355,7 @@ fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions), Error> {
             mean: BinRule::MaxBins(a.mean_bins),
         },
     };
-    Ok((spec, opts))
+    Ok((spec, opts, channels))
 }
 
 fn residue_mode(r: ResidueArg) -> ResidueMode {
@@ -250,13 +365,55 @@ fn residue_mode(r: ResidueArg) -> ResidueMode {
     }
 }
 
-/// Count the series and describe it as the results model does.
-fn count_record(
+/// Count the channels in one pass and describe each as the results model does.
+fn count_records(
     a: &CountArgs,
     spec: &SeriesSpec,
     opts: &CountOptions,
-) -> Result<CountedRecord, Error> {
-    let cs = crate::histories::series::count_series(spec, opts).map_err(|e| {
+    channels: &Channels,
+) -> Result<Vec<(String, CountedRecord)>, Error> {
+    let total = std::fs::metadata(&a.file).map_or(0, |m| m.len());
+    let progress = super::progress::Progress::new(total >> 20, "counting MiB", a.quiet);
+    let report = |done: u64, _| progress.set(done >> 20);
+    let binary = match a.format {
+        FormatArg::Auto
+            if a.file
+                .extension()
+                .is_some_and(|e| e.eq_ignore_ascii_case("npy")) =>
+        {
+            Some(BinaryFormat::Npy)
+        }
+        FormatArg::Auto | FormatArg::Csv => None,
+        FormatArg::F32 => Some(BinaryFormat::F32 {
+            channels: a.channels,
+        }),
+        FormatArg::F64 => Some(BinaryFormat::F64 {
+            channels: a.channels,
+        }),
+        FormatArg::Npy => Some(BinaryFormat::Npy),
+    };
+    let counted = match (binary, channels) {
+        (Some(f), Channels::All) => {
+            count_binary(spec, f, None, opts, Ingest::default().block_bytes, &report)
+        }
+        (Some(f), Channels::These(v)) => count_binary(
+            spec,
+            f,
+            Some(v),
+            opts,
+            Ingest::default().block_bytes,
+            &report,
+        ),
+        (None, _) => crate::histories::ingest::count_channels(
+            spec,
+            channels,
+            opts,
+            Ingest::default(),
+            &report,
+        ),
+    };
+    progress.finish();
+    let counted = counted.map_err(|e| {
         Error::Input(
             InputError::new(
                 InputErrorKind::Series,
@@ -266,34 +423,46 @@ fn count_record(
             .hint(series_hint(&e)),
         )
     })?;
-    Ok(counted_record(
-        cs,
-        RecordLabels {
-            event: "record".into(),
-            file: a
-                .file
-                .file_name()
-                .map(|f| f.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            column: a.column.clone(),
-            unit: match a.unit {
-                UnitArg::Mpa => SeriesUnitInput::Mpa,
-                UnitArg::Microstrain => SeriesUnitInput::Microstrain,
-            },
-            scale: a.scale,
-            modulus_mpa: a.modulus_mpa,
-            gate_mpa: a.gate_mpa,
-            mode: opts.mode,
-            repeats_per_year: 1.0,
-        },
-    ))
+    let file = a
+        .file
+        .file_name()
+        .map(|f| f.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    Ok(counted
+        .into_iter()
+        .map(|c| {
+            let column = match (&a.column, channels) {
+                (Some(col), _) => col.clone(),
+                _ => c.name.clone(),
+            };
+            let rec = counted_record(
+                c.counted,
+                RecordLabels {
+                    event: "record".into(),
+                    file: file.clone(),
+                    column,
+                    unit: match a.unit {
+                        UnitArg::Mpa => SeriesUnitInput::Mpa,
+                        UnitArg::Microstrain => SeriesUnitInput::Microstrain,
+                    },
+                    scale: a.scale,
+                    modulus_mpa: a.modulus_mpa,
+                    gate_mpa: a.gate_mpa,
+                    mode: opts.mode,
+                    repeats_per_year: 1.0,
+                },
+            );
+            (c.name, rec)
+        })
+        .collect())
 }
 
-/// The range-mean spectrum as CSV: one row per matrix cell.
-fn spectrum_csv(rec: &CountedRecord) -> Result<Vec<u8>, Error> {
+/// The range-mean spectrum as CSV: one row per matrix cell (with several channels, a
+/// first `channel` column names the channel of each row).
+fn spectrum_csv(recs: &[(String, CountedRecord)], multi: bool) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
-    w.write_record([
+    let head = [
         "range_mpa",
         "mean_mpa",
         "cycles",
@@ -301,17 +470,67 @@ fn spectrum_csv(rec: &CountedRecord) -> Result<Vec<u8>, Error> {
         "range_hi_mpa",
         "mean_lo_mpa",
         "mean_hi_mpa",
+    ];
+    let lead: &[&str] = if multi { &["channel"] } else { &[] };
+    w.write_record(lead.iter().chain(&head)).map_err(e)?;
+    for (name, rec) in recs {
+        for c in &rec.matrix {
+            let row = [
+                data_num(c.max_range_mpa),
+                data_num(c.mean_mpa),
+                data_num(c.cycles),
+                data_num(c.range_lo_mpa),
+                data_num(c.range_hi_mpa),
+                data_num(c.mean_lo_mpa),
+                data_num(c.mean_hi_mpa),
+            ];
+            if multi {
+                w.write_record(std::iter::once(name.clone()).chain(row))
+                    .map_err(e)?;
+            } else {
+                w.write_record(row).map_err(e)?;
+            }
+        }
+    }
+    w.into_inner()
+        .map_err(|e| Error::Internal(format!("csv: {e}")))
+}
+
+/// Each channel's statistics as CSV, one row per channel.
+fn stats_csv(recs: &[(String, CountedRecord)]) -> Result<Vec<u8>, Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
+    w.write_record([
+        "channel",
+        "samples",
+        "reversals",
+        "full_cycles",
+        "half_cycles",
+        "min_mpa",
+        "max_mpa",
+        "mean_mpa",
+        "std_dev_mpa",
+        "range_bin_width_mpa",
+        "mean_bin_width_mpa",
+        "residue",
+        "gate_mpa",
     ])
     .map_err(e)?;
-    for c in &rec.matrix {
+    for (name, r) in recs {
         w.write_record([
-            data_num(c.max_range_mpa),
-            data_num(c.mean_mpa),
-            data_num(c.cycles),
-            data_num(c.range_lo_mpa),
-            data_num(c.range_hi_mpa),
-            data_num(c.mean_lo_mpa),
-            data_num(c.mean_hi_mpa),
+            name.clone(),
+            r.samples.to_string(),
+            r.reversals.to_string(),
+            r.full_cycles.to_string(),
+            r.half_cycles.to_string(),
+            data_num(r.min_mpa),
+            data_num(r.max_mpa),
+            data_num(r.mean_mpa),
+            data_num(r.std_dev_mpa),
+            data_num(r.bin_width_mpa),
+            data_num(r.mean_bin_width_mpa),
+            r.residue.clone(),
+            data_num(r.gate_mpa),
         ])
         .map_err(e)?;
     }
@@ -322,8 +541,9 @@ fn spectrum_csv(rec: &CountedRecord) -> Result<Vec<u8>, Error> {
 /// The one-line account of the count printed on standard error.
 fn summary_line(a: &CountArgs, rec: &CountedRecord) -> String {
     format!(
-        "{}: {} samples, {} reversals, {} full and {} half cycles ({} residue), gate {} MPa, range bins {} MPa, mean bins {} MPa{}",
+        "{} [{}]: {} samples, {} reversals, {} full and {} half cycles ({} residue), gate {} MPa, range bins {} MPa, mean bins {} MPa{}",
         a.file.display(),
+        rec.column,
         rec.samples,
         rec.reversals,
         rec.full_cycles,

@@ -22,7 +22,7 @@ use crate::catalogue::Library;
 use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_INTERNAL, EXIT_PASS};
 use crate::results::{Results, Status};
 pub use assess::{shard_range, AssessArgs};
-pub use count::{CountArgs, ResidueArg, UnitArg};
+pub use count::{CountArgs, FormatArg, ResidueArg, UnitArg};
 pub use fit::{fit_table, FitArgs, MethodArg, StressArg};
 pub use output::{fmt_life, print_err, print_out, table, write_atomic};
 pub use report::ReportArgs;

@@ -160,6 +160,11 @@ impl Row {
     }
 }
 
+/// Powers of ten exact in binary.
+const POW10: [f64; 16] = [
+    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+];
+
 /// A decimal number from a cell's bytes (blanks around it allowed), as `str::parse`
 /// reads it. Short plain decimals (`-12.375`: at most 15 digits, no exponent) take a
 /// fast exact path: the digits as an integer divided by a power of ten, both exact in
@@ -196,13 +201,60 @@ pub fn parse_f64(cell: &[u8]) -> Option<f64> {
         }
     }
     if plain && n > 0 && n <= 15 {
-        const POW10: [f64; 16] = [
-            1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
-        ];
         let v = m as f64 / POW10[frac];
         return Some(if neg { -v } else { v });
     }
     std::str::from_utf8(b).ok()?.parse::<f64>().ok()
+}
+
+/// A short plain decimal at the start of `b` (blanks before and after it allowed), as
+/// [`parse_f64`] reads it, and the bytes it takes with those blanks; `None` when what is
+/// there is not such a number (then the caller reads the cell with [`parse_f64`]). For
+/// readers that parse a record in one pass without first splitting it into cells.
+#[inline]
+pub fn parse_f64_prefix(b: &[u8]) -> Option<(f64, usize)> {
+    let mut i = 0;
+    while i < b.len() && (b[i] == b' ' || b[i] == b'\t') {
+        i += 1;
+    }
+    let neg = match b.get(i) {
+        Some(b'-') => {
+            i += 1;
+            true
+        }
+        Some(b'+') => {
+            i += 1;
+            false
+        }
+        _ => false,
+    };
+    let start = i;
+    let mut m: u64 = 0;
+    let mut n = 0;
+    let mut frac = 0;
+    let mut dot = false;
+    while i < b.len() && i - start < 16 {
+        let c = b[i];
+        if c.is_ascii_digit() {
+            m = m * 10 + (c - b'0') as u64;
+            n += 1;
+            frac += dot as usize;
+        } else if c == b'.' && !dot {
+            dot = true;
+        } else {
+            break;
+        }
+        i += 1;
+    }
+    if n == 0 || n > 15 || (i < b.len() && (b[i].is_ascii_digit() || b[i] == b'.')) {
+        return None;
+    }
+    while i < b.len() && (b[i] == b' ' || b[i] == b'\t') {
+        i += 1;
+    }
+    // the digits as an integer over a power of ten, both exact (Clinger's fast path, as parse_f64)
+    let v = m as f64 / POW10[frac];
+    Some((if neg { -v } else { v }, i))
 }
 
 /// A line without its carriage return and, on line 1, a UTF-8 byte-order mark.
@@ -277,6 +329,11 @@ impl CsvLines {
             self.eof = true;
         }
         Ok(())
+    }
+
+    /// Bytes of the file consumed so far: the offset of the next line's first byte.
+    pub fn offset(&self) -> u64 {
+        self.bytes - (self.len - self.pos) as u64
     }
 
     /// The next line into `row` (its text and cells); false at the end of the file.
@@ -468,6 +525,50 @@ mod tests {
             let want: f64 = t.parse().unwrap();
             proptest::prop_assert_eq!(parse_f64(t.as_bytes()).map(f64::to_bits), Some(want.to_bits()), "{}", t);
         }
+    }
+
+    #[test]
+    fn prefix_numbers_read_as_the_cell_parser_does() {
+        // where the prefix reader takes a number, parse_f64 of the same cell gives the
+        // very same bits (common practice: one formula for both)
+        for t in [
+            "0",
+            "-0",
+            "12",
+            "-12.375",
+            " 0.1 ",
+            ".5",
+            "5.",
+            "+7.25",
+            "999999999999999",
+            "3.14159265358979",
+            "1e3",
+            "1234567890123456",
+            "12345678901234567",
+            "-",
+            ".",
+            "1.2.3",
+            "",
+            " ",
+            "nan",
+            "7x",
+        ] {
+            match parse_f64_prefix(t.as_bytes()) {
+                Some((v, k)) if k == t.len() => {
+                    assert_eq!(
+                        Some(v.to_bits()),
+                        parse_f64(t.as_bytes()).map(f64::to_bits),
+                        "{t}"
+                    )
+                }
+                // stopped inside the cell: a reader then takes the cell to parse_f64
+                Some((_, k)) => assert!(!matches!(t.as_bytes()[k], b',' | b'\n'), "{t}"),
+                None => {}
+            }
+        }
+        assert_eq!(parse_f64_prefix(b"-1.5, 2"), Some((-1.5, 4)));
+        assert_eq!(parse_f64_prefix(b"42\n"), Some((42.0, 2)));
+        assert_eq!(parse_f64_prefix(b"1e3,"), Some((1.0, 1)));
     }
 
     #[test]

@@ -2,6 +2,8 @@
 //! or measured/simulated series counted by rainflow) into a stress spectrum with
 //! cycles per year. The assessment reads only these spectra.
 
+pub mod binary;
+pub mod ingest;
 pub mod rainflow;
 pub mod series;
 pub mod spectrum;
@@ -580,6 +582,8 @@ pub fn series_hint(e: &crate::histories::series::SeriesError) -> String {
         E::OutOfRange { .. } => "check the unit and scale: values must be in MPa (or µε with `unit: microstrain` and the modulus)".into(),
         E::LineTooLong { .. } => "the file must be a comma-separated record with one sample per line".into(),
         E::DuplicateColumn { .. } => "rename one of the columns in the header, or choose the column by its number".into(),
+        E::BadSample { .. } => "remove or repair NaN, infinite or out-of-range samples; check the unit, scale and sample type".into(),
+        E::BadBinary { .. } => "give the sample type and channel count the record was written with (--format, --channels), or a NumPy .npy file of little-endian float32/float64".into(),
         E::Invalid(_) | E::Gate(_) | E::Spectrum(_) => "check the series options (scale, modulus, gate, bins)".into(),
     }
 }

@@ -604,6 +604,65 @@ impl RainflowCounter {
         c
     }
 
+    /// A gate-0 counter for a part of a record whose earlier samples are not known
+    /// yet (a block of a file parsed on another thread): `first` is the part's first
+    /// sample, held as the detector's last sample with no direction, so that the
+    /// part's reversals after `first` come out exactly; whether `first` itself is a
+    /// reversal is settled by [`RainflowCounter::append_part`].
+    pub fn part_from(first: f64) -> RainflowCounter {
+        let mut c = RainflowCounter::new(0.0);
+        c.tp.samples = 1;
+        c.tp.emitted = 0;
+        c.tp.prev = first;
+        c.tp.dir = 0.0;
+        c.tp.min = first;
+        c.tp.max = first;
+        c
+    }
+
+    /// Append the count of the part that follows this (gate-0) record: `part` was
+    /// made by [`RainflowCounter::part_from`]`(first)` and fed the part's samples after
+    /// `first`; `first_move` is the part's first non-zero first difference (0 when
+    /// the part is constant). The state and residue are then those of one counter fed
+    /// both parts, and the cycles spanning them go to `sink`; the cycles inside the
+    /// part were already counted (closing a pair never prevents another, see the
+    /// module notes).
+    pub fn append_part<F: FnMut(Cycle)>(
+        &mut self,
+        part: RainflowCounter,
+        first: f64,
+        first_move: f64,
+        sink: &mut F,
+    ) {
+        debug_assert!(self.tp.exact && part.tp.exact);
+        // `first` through this detector: it confirms the last sample before it as a
+        // reversal when the signal turns there (a fresh counter takes it as its first)
+        let fresh = self.tp.samples == 0;
+        if let Some(r) = self.tp.push(first) {
+            push_reversal(&mut self.stack, &mut self.full, r, sink);
+        }
+        // `first` is a reversal when the move into it and the move out of it differ
+        // in sign (rainflow 3.2.0 reversals(): a sign change of the first difference)
+        if !fresh && self.tp.dir * first_move < 0.0 {
+            push_reversal(&mut self.stack, &mut self.full, first, sink);
+            self.tp.emitted += 1;
+        }
+        for &r in &part.stack {
+            push_reversal(&mut self.stack, &mut self.full, r, sink);
+        }
+        self.full += part.full;
+        let tp = &mut self.tp;
+        tp.min = tp.min().min(part.tp.min());
+        tp.max = tp.max().max(part.tp.max());
+        // the part counted `first`, already counted above, as its first sample
+        tp.samples += part.tp.samples - 1;
+        tp.emitted += part.tp.emitted;
+        tp.prev = part.tp.prev;
+        if part.tp.dir != 0.0 {
+            tp.dir = part.tp.dir;
+        }
+    }
+
     /// The residue so far: the reversals not yet closed into full cycles.
     pub fn residue(&self) -> &[f64] {
         &self.stack

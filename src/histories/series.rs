@@ -283,6 +283,26 @@ pub enum SeriesError {
         /// Columns in the first row.
         columns: usize,
     },
+    /// A sample of a binary record that is not a finite stress within bounds.
+    #[error("binary record {path}, sample {sample} (1-based), channel {channel}: {} MPa (after unit and scale) is not a finite stress within ±{} MPa", short_num(*value_mpa), short_num(MAX_SERIES_STRESS_MPA))]
+    BadSample {
+        /// File.
+        path: PathBuf,
+        /// 1-based sample (row) number.
+        sample: u64,
+        /// 1-based channel.
+        channel: usize,
+        /// The value in MPa.
+        value_mpa: f64,
+    },
+    /// A binary record whose header or size is not right.
+    #[error("binary record {path}: {reason}")]
+    BadBinary {
+        /// File.
+        path: PathBuf,
+        /// What is wrong.
+        reason: String,
+    },
     /// The request itself is wrong.
     #[error("invalid time series request: {0}")]
     Invalid(String),
@@ -304,7 +324,7 @@ fn length_note(chars: usize) -> String {
 
 /// A cell's text for a message: at most [`CLIP_CHARS`] characters, then an ellipsis;
 /// and its whole length in characters.
-fn cell_text(cell: &[u8]) -> (String, usize) {
+pub(crate) fn cell_text(cell: &[u8]) -> (String, usize) {
     let t = String::from_utf8_lossy(cell.trim_ascii());
     let chars = t.chars().count();
     if chars <= CLIP_CHARS {
@@ -396,19 +416,50 @@ pub struct CountedSeries {
 
 /// Running mean and variance (Welford's algorithm, common practice).
 #[derive(Clone, Copy, Debug, Default)]
-struct Moments {
+pub(crate) struct Moments {
     n: f64,
     mean: f64,
     m2: f64,
 }
 
 impl Moments {
-    fn add(&mut self, x: f64) {
+    pub(crate) fn add(&mut self, x: f64) {
         // Welford: δ = x − mean; mean += δ/n; M2 += δ·(x − mean)
         self.n += 1.0;
         let d = x - self.mean;
         self.mean += d / self.n;
         self.m2 += d * (x - self.mean);
+    }
+
+    /// Add many samples: their own mean and sum of squared deviations (two passes
+    /// that vectorise), folded in by [`Moments::merge`].
+    pub(crate) fn add_slice(&mut self, xs: &[f64]) {
+        if xs.is_empty() {
+            return;
+        }
+        let n = xs.len() as f64;
+        // mean = Σx/n; M2 = Σ(x − mean)² (two-pass variance, common practice)
+        let mean = sum4(xs.iter().copied()) / n;
+        let m2 = sum4(xs.iter().map(|&x| (x - mean) * (x - mean)));
+        self.merge(&Moments { n, mean, m2 });
+    }
+
+    /// Fold in the moments of samples that follow (Chan, Golub and LeVeque's pairwise
+    /// update, common practice).
+    pub(crate) fn merge(&mut self, o: &Moments) {
+        if o.n == 0.0 {
+            return;
+        }
+        if self.n == 0.0 {
+            *self = *o;
+            return;
+        }
+        // n = na + nb; δ = mean_b − mean_a; mean = mean_a + δ·nb/n; M2 = M2a + M2b + δ²·na·nb/n
+        let n = self.n + o.n;
+        let d = o.mean - self.mean;
+        self.mean += d * o.n / n;
+        self.m2 += o.m2 + d * d * self.n * o.n / n;
+        self.n = n;
     }
 
     fn std_dev(&self) -> f64 {
@@ -420,11 +471,20 @@ impl Moments {
     }
 }
 
+/// Sum in four lanes (so that the compiler may vectorise it).
+fn sum4(xs: impl Iterator<Item = f64>) -> f64 {
+    let mut acc = [0.0f64; 4];
+    for (i, x) in xs.enumerate() {
+        acc[i & 3] += x;
+    }
+    (acc[0] + acc[1]) + (acc[2] + acc[3])
+}
+
 /// Resolved column and its label for messages.
-struct Column {
+pub(crate) struct Column {
     /// 0-based position.
-    pos: usize,
-    label: String,
+    pub(crate) pos: usize,
+    pub(crate) label: String,
 }
 
 fn open(spec: &SeriesSpec) -> Result<SeriesReader, SeriesError> {
@@ -490,7 +550,18 @@ fn resolve(
     rdr: &mut SeriesReader,
     first: Option<&csv::ByteRecord>,
 ) -> Result<Column, SeriesError> {
-    let headers: Vec<String> = if spec.has_header {
+    let headers = header_names(spec, rdr)?;
+    resolve_column(
+        &spec.path,
+        &spec.column,
+        spec.has_header,
+        &headers,
+        first.map_or(0, |r| r.len()),
+    )
+}
+
+fn header_names(spec: &SeriesSpec, rdr: &mut SeriesReader) -> Result<Vec<String>, SeriesError> {
+    Ok(if spec.has_header {
         rdr.byte_headers()
             .map_err(|e| read_err(&spec.path, e))?
             .iter()
@@ -498,10 +569,33 @@ fn resolve(
             .collect()
     } else {
         Vec::new()
-    };
-    match &spec.column {
+    })
+}
+
+/// The header names of a series file (none without a header), by the reference reader.
+pub(crate) fn column_names(spec: &SeriesSpec) -> Result<Vec<String>, SeriesError> {
+    let mut rdr = open(spec)?;
+    if spec.has_header {
+        return header_names(spec, &mut rdr);
+    }
+    let mut rec = csv::ByteRecord::new();
+    rdr.read_byte_record(&mut rec)
+        .map_err(|e| read_err(&spec.path, e))?;
+    Ok((1..=rec.len()).map(|i| i.to_string()).collect())
+}
+
+/// The column `column` among `headers` (with a header) or among the `first_fields`
+/// fields of the first row (without one).
+pub(crate) fn resolve_column(
+    path: &Path,
+    column: &ColumnRef,
+    has_header: bool,
+    headers: &[String],
+    first_fields: usize,
+) -> Result<Column, SeriesError> {
+    match column {
         ColumnRef::Name(name) => {
-            if !spec.has_header {
+            if !has_header {
                 return Err(SeriesError::Invalid(format!(
                     "column '{name}' is chosen by name but the file is read without a header line"
                 )));
@@ -519,12 +613,12 @@ fn resolve(
                     label: format!("'{}'", escape_controls(want)),
                 }),
                 [] => Err(SeriesError::NoSuchColumn {
-                    path: spec.path.clone(),
+                    path: path.to_path_buf(),
                     name: escape_controls(name).into_owned(),
-                    available: headers,
+                    available: headers.to_vec(),
                 }),
                 many => Err(SeriesError::DuplicateColumn {
-                    path: spec.path.clone(),
+                    path: path.to_path_buf(),
                     name: escape_controls(want).into_owned(),
                     positions: many.iter().map(|p| p + 1).collect(),
                 }),
@@ -536,14 +630,14 @@ fn resolve(
                     "column index is 1-based; 0 does not name a column".to_string(),
                 ));
             }
-            let columns = if spec.has_header {
+            let columns = if has_header {
                 headers.len()
             } else {
-                first.map_or(0, |r| r.len())
+                first_fields
             };
             if *i > columns {
                 return Err(SeriesError::ColumnOutOfRange {
-                    path: spec.path.clone(),
+                    path: path.to_path_buf(),
                     index: *i,
                     columns,
                 });
@@ -697,8 +791,18 @@ pub fn count_series_with<F: FnMut(Cycle)>(
     Ok(counter.finish(mode, sink))
 }
 
-/// Rainflow count and bin a series.
+/// Rainflow count and bin a series: the fast reader on all cores
+/// ([`crate::histories::ingest`]); the same result as [`count_series_reference`].
 pub fn count_series(spec: &SeriesSpec, opts: &CountOptions) -> Result<CountedSeries, SeriesError> {
+    crate::histories::ingest::count_one(spec, opts)
+}
+
+/// Rainflow count and bin a series with the reference reader: the csv crate, one
+/// record at a time on one thread (quoted cells over several lines are read too).
+pub fn count_series_reference(
+    spec: &SeriesSpec,
+    opts: &CountOptions,
+) -> Result<CountedSeries, SeriesError> {
     let mut spectrum = Spectrum::new(opts.bins)?;
     let mut counter = RainflowCounter::try_new(opts.gate_mpa)?;
     let mut moments = Moments::default();
@@ -710,7 +814,16 @@ pub fn count_series(spec: &SeriesSpec, opts: &CountOptions) -> Result<CountedSer
         counter.push_slice(xs, &mut sink);
     })?;
     let stats = counter.finish(opts.mode, &mut sink);
-    Ok(CountedSeries {
+    Ok(counted_series(stats, &spectrum, &moments))
+}
+
+/// The counted series from the counter's totals, the spectrum and the moments.
+pub(crate) fn counted_series(
+    stats: CountStats,
+    spectrum: &Spectrum,
+    moments: &Moments,
+) -> CountedSeries {
+    CountedSeries {
         stats,
         histogram: spectrum.histogram(),
         matrix: spectrum.matrix(),
@@ -723,5 +836,5 @@ pub fn count_series(spec: &SeriesSpec, opts: &CountOptions) -> Result<CountedSer
         constant: stats.min == stats.max,
         mean_mpa: moments.mean,
         std_dev_mpa: moments.std_dev(),
-    })
+    }
 }

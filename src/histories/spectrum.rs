@@ -355,6 +355,22 @@ impl Spectrum {
         })
     }
 
+    /// An empty spectrum with the same rules at this one's current widths. Cycles
+    /// added to it and merged back give the bins and counts of one spectrum fed all
+    /// the cycles: a `MaxBins` width only ever grows to the least that fits the
+    /// cycles seen, and this one's widths are at most that for all of them.
+    pub fn empty_like(&self) -> Spectrum {
+        Spectrum {
+            range: self.range,
+            mean: self.mean,
+            used: None,
+            store: Store::Empty,
+            total: 0.0,
+            added: 0,
+            max_range: 0.0,
+        }
+    }
+
     /// Add one counted cycle (its `count` is the weight).
     #[inline]
     pub fn add(&mut self, c: &Cycle) {
