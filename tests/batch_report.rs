@@ -110,3 +110,19 @@ fn sheets_for_the_chosen_details_and_every_detail_in_the_summary() {
         "the package from merged shards differs from the direct one"
     );
 }
+
+#[test]
+fn the_committed_batch_demo_is_what_the_generator_writes_and_assesses() {
+    let dir = tempfile::tempdir().unwrap();
+    hall(dir.path(), 2400, 0);
+    let root = common::root().join("projects/kestrel-bay-hall");
+    for f in ["project.yaml", "tables/details.csv", "tables/stresses.csv"] {
+        assert!(
+            std::fs::read(dir.path().join(f)).unwrap() == std::fs::read(root.join(f)).unwrap(),
+            "{f} differs from `cargo run --example make_batch`"
+        );
+    }
+    let (code, out, err) = run_in(&root, &["assess", "project.yaml", "--csv", "--quiet"]);
+    assert!(code <= 1, "{err}");
+    assert_eq!(out.lines().count(), 2401);
+}
