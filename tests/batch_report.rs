@@ -24,6 +24,63 @@ fn report(dir: &Path, args: &[&str]) -> String {
     err
 }
 
+/// The population section's figures, worked here from the `--csv` rows: nearest-rank
+/// percentiles (rank ceil(p·n), common practice), counts above 0.8 and 1.0, and per
+/// group the highest utilisation and the detail that has it.
+fn population_section_agrees_with_the_rows(text: &str, csv: &str) {
+    let flat = text.split_whitespace().collect::<Vec<_>>().join(" ");
+    let mut rd = csv::Reader::from_reader(csv.as_bytes());
+    let head = rd.headers().unwrap().clone();
+    let col = |name: &str| head.iter().position(|h| h == name).unwrap();
+    let (cu, cg, ci) = (col("utilisation"), col("group"), col("id"));
+    let rows: Vec<(String, String, f64)> = rd
+        .records()
+        .map(|r| {
+            let r = r.unwrap();
+            (r[ci].to_string(), r[cg].to_string(), r[cu].parse().unwrap())
+        })
+        .collect();
+    let mut u: Vec<f64> = rows.iter().map(|r| r.2).collect();
+    u.sort_by(f64::total_cmp);
+    let rank = |p: f64| u[((p * u.len() as f64).ceil() as usize).max(1) - 1];
+    let stated = format!(
+        "Utilisation over all {} details: median {:.3}, 90th percentile {:.3}, 99th percentile {:.3}, highest {:.3}",
+        u.len(),
+        rank(0.5),
+        rank(0.9),
+        rank(0.99),
+        u[u.len() - 1]
+    );
+    assert!(flat.contains(&stated), "population line: {stated}");
+    let above = |x: f64| u.iter().filter(|&&v| v > x).count();
+    let stated = format!(
+        "{} details lie above 0.8 and {} above the limit 1.0",
+        above(0.8),
+        above(1.0)
+    );
+    assert!(flat.contains(&stated), "{stated}");
+    // the group of the highest utilisation heads the group table, its governing detail named
+    let top = rows
+        .iter()
+        .fold(&rows[0], |a, b| if b.2 > a.2 { b } else { a });
+    let in_group = rows.iter().filter(|r| r.1 == top.1).count();
+    let fails = rows.iter().filter(|r| r.1 == top.1 && r.2 > 1.0).count();
+    let row = format!(
+        "{} {in_group} {fails} {:.3}",
+        top.1,
+        rows.iter()
+            .filter(|r| r.1 == top.1)
+            .map(|r| r.2)
+            .fold(f64::MAX, f64::min)
+    );
+    assert!(flat.contains(&row), "group row {row}");
+    assert!(
+        flat.contains(&format!("{:.3} {}", top.2, top.0)),
+        "group row ends with the highest and its detail {}",
+        top.0
+    );
+}
+
 #[test]
 fn sheets_for_the_chosen_details_and_every_detail_in_the_summary() {
     let dir = tempfile::tempdir().unwrap();
@@ -47,6 +104,7 @@ fn sheets_for_the_chosen_details_and_every_detail_in_the_summary() {
     for id in &ids {
         assert!(text.contains(id.as_str()), "{id} missing from the package");
     }
+    population_section_agrees_with_the_rows(&text, &csv);
     // named details only
     report(
         d,

@@ -6,6 +6,7 @@ pub mod fit_sheet;
 mod glyph_ranges;
 pub mod glyphs;
 pub mod plots;
+pub mod population;
 pub mod sheets;
 pub mod templates;
 pub mod typst;
@@ -16,6 +17,7 @@ use serde_json::{json, Value};
 
 use crate::error::Error;
 use crate::results::Results;
+use population::Population;
 
 /// The typst-cli version the templates are written for (major.minor must match).
 pub const TYPST_VERSION: &str = "0.15.1";
@@ -134,11 +136,17 @@ pub fn parse_epoch(t: &str) -> Result<i64, Error> {
 }
 
 /// Everything the templates see: the results model as `r`, plus file names of plots.
-pub fn template_context(r: &Results, plot_files: &PlotFiles, sheets: &Sheets) -> Value {
+pub fn template_context(
+    r: &Results,
+    plot_files: &PlotFiles,
+    sheets: &Sheets,
+    population: &Population,
+) -> Value {
     json!({
         "r": r,
         "plots": plot_files,
         "sheets": sheets,
+        "population": population,
         "meta": {
             "short_hash": &r.input.sha256[..r.input.sha256.len().min(12)],
             "typst_version": TYPST_VERSION,
@@ -189,6 +197,10 @@ impl Sheets {
 #[derive(Debug, Clone, Default, serde::Serialize)]
 pub struct PlotFiles {
     pub utilisation: String,
+    /// The population figures (empty names when the section is not shown).
+    pub distribution: String,
+    pub by_type: String,
+    pub by_group: String,
     /// details[i] -> one entry per component, in the order of the results.
     pub details: Vec<Vec<ComponentPlots>>,
 }
@@ -221,11 +233,40 @@ pub fn build_files_for(
     let mut pf = PlotFiles {
         utilisation: "plots/utilisation.svg".into(),
         details: Vec::with_capacity(r.details.len()),
+        ..PlotFiles::default()
     };
     files.push((
         pf.utilisation.clone(),
         plots::utilisation_chart(&r.details).into_bytes(),
     ));
+    let population = Population::of(r);
+    if population.shown {
+        pf.distribution = "plots/population-distribution.svg".into();
+        files.push((
+            pf.distribution.clone(),
+            plots::utilisation_distribution(&population.bins, population.details).into_bytes(),
+        ));
+        pf.by_type = "plots/population-by-type.svg".into();
+        files.push((
+            pf.by_type.clone(),
+            plots::utilisation_spread(
+                &spread_title("detail type", &population.by_type, population.types_total),
+                &population.by_type,
+            )
+            .into_bytes(),
+        ));
+        if !population.by_group.is_empty() {
+            pf.by_group = "plots/population-by-group.svg".into();
+            files.push((
+                pf.by_group.clone(),
+                plots::utilisation_spread(
+                    &spread_title("group", &population.by_group, population.groups_total),
+                    &population.by_group,
+                )
+                .into_bytes(),
+            ));
+        }
+    }
     for (i, d) in r.details.iter().enumerate() {
         let mut comps = Vec::new();
         if !sheets.has_sheet[i] {
@@ -253,11 +294,23 @@ pub fn build_files_for(
         }
         pf.details.push(comps);
     }
-    let ctx = template_context(r, &pf, sheets);
+    let ctx = template_context(r, &pf, sheets, &population);
     let main = templates::render(&ctx, template_dir)?;
     files.push(("main.typ".into(), main.into_bytes()));
     files.push(("project.yaml".into(), r.input.text.clone().into_bytes()));
     Ok(BuildFiles { files })
+}
+
+/// Title of a by-type or by-group figure, saying when only the highest rows are shown.
+fn spread_title(what: &str, rows: &[population::PopulationRow], total: usize) -> String {
+    if rows.len() < total {
+        format!(
+            "Utilisation by {what}: the {} highest of {total}",
+            rows.len()
+        )
+    } else {
+        format!("Utilisation by {what}")
+    }
 }
 
 /// Produce the PDF package; returns the path written.

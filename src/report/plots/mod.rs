@@ -11,6 +11,7 @@
 mod fit;
 mod histogram;
 mod matrix;
+mod population;
 mod sn;
 mod utilisation;
 
@@ -58,6 +59,7 @@ const PAPER: RGBColor = RGBColor(255, 255, 255);
 pub use fit::{fit_diagram, FIT_SIZE};
 pub use histogram::histogram;
 pub use matrix::matrix_heatmap;
+pub use population::{utilisation_distribution, utilisation_spread, DISTRIBUTION_SIZE};
 pub use sn::sn_diagram;
 pub use utilisation::utilisation_chart;
 #[cfg(test)]
