@@ -19,7 +19,7 @@ use crate::results::{ComponentResult, DetailResult, Results, Status};
 pub const DIFF_RTOL: f64 = 1e-12;
 
 /// One side of the comparison.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct DiffSide {
     /// The file as given on the command line.
     pub file: String,
@@ -37,7 +37,7 @@ pub struct DiffSide {
 }
 
 /// One value that differs.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct Change {
     /// What changed, with its unit in the name: `thickness_mm`,
     /// `normal.category_mpa`, `normal.loading[loaded passage].block[1].range_mpa`,
@@ -50,7 +50,7 @@ pub struct Change {
 }
 
 /// A detail present in one revision only.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct DetailOnly {
     pub id: String,
     pub location: String,
@@ -59,7 +59,7 @@ pub struct DetailOnly {
 }
 
 /// How a detail's status moved.
-#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum StatusMove {
     Same,
@@ -68,7 +68,7 @@ pub enum StatusMove {
 }
 
 /// A detail present in both revisions with something that differs.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct DetailDiff {
     pub id: String,
     /// Location in the new revision.
@@ -84,7 +84,7 @@ pub struct DetailDiff {
 
 /// Everything `diff` found: the diff model (serialisable, read by the report's
 /// "changes since" section and citable as evidence).
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct DiffReport {
     pub old: DiffSide,
     pub new: DiffSide,

@@ -12,6 +12,7 @@ mod new;
 pub mod output;
 pub mod progress;
 mod report;
+mod schema;
 pub mod stream;
 mod verify;
 
@@ -84,6 +85,9 @@ pub enum Command {
     /// Compare two revisions (project files or results models): details added, removed
     /// and changed, every input and result that differs (exit 1 when a status got worse).
     Diff(diff::DiffArgs),
+    /// Print the JSON Schema of a project file, a results model or a diff model (for
+    /// editor completion and validation, and for tools reading --json).
+    Schema(schema::SchemaArgs),
 }
 
 /// Parse arguments, run, print errors, and return the process exit code. A panic
@@ -237,6 +241,7 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::New { dir } => new::run(dir, &library),
         Command::Verify(a) => verify::run(a, &library),
         Command::Diff(a) => diff::run(a, &library),
+        Command::Schema(a) => schema::run(a),
     }
 }
 
