@@ -611,8 +611,9 @@ pub fn shown(v: &Value) -> String {
     }
 }
 
-/// A shorter form for the table: hashes cut to 12 digits, numbers to 4 significant.
-fn cell(item: &str, v: &Value) -> String {
+/// A shorter form for tables: hashes cut to 12 digits, numbers to 4 decimals (or 5
+/// significant digits in exponent form when very large or small).
+pub fn cell(item: &str, v: &Value) -> String {
     match v {
         Value::String(s) if item.ends_with("sha256") => super::short_hash(s).to_string(),
         Value::String(s) if item == "status" => s.to_uppercase(),
