@@ -650,12 +650,15 @@ pub fn render(r: &DiffReport) -> String {
     let mut t = String::new();
     let _ = writeln!(t, "old  {}", one_line(&side_line(&r.old)));
     let _ = writeln!(t, "new  {}", one_line(&side_line(&r.new)));
-    let rows = |t: &mut String, kind: &str, list: &[Change]| {
-        let w = list
+    let width = |lists: &[&[Change]]| {
+        lists
             .iter()
+            .flat_map(|l| l.iter())
             .map(|c| c.item.chars().count())
             .max()
-            .unwrap_or(0);
+            .unwrap_or(0)
+    };
+    let rows = |t: &mut String, kind: &str, list: &[Change], w: usize| {
         for c in list {
             let _ = writeln!(
                 t,
@@ -668,7 +671,7 @@ pub fn render(r: &DiffReport) -> String {
     };
     if !r.project.is_empty() {
         let _ = writeln!(t, "\nproject ({} changes)", r.project.len());
-        rows(&mut t, "input", &r.project);
+        rows(&mut t, "input", &r.project, width(&[&r.project]));
     }
     let onlys = |t: &mut String, title: &str, list: &[DetailOnly]| {
         if list.is_empty() {
@@ -705,8 +708,9 @@ pub fn render(r: &DiffReport) -> String {
             d.new_status.as_str(),
             one_line(&d.location)
         );
-        rows(&mut t, "input", &d.inputs);
-        rows(&mut t, "result", &d.results);
+        let w = width(&[&d.inputs, &d.results]);
+        rows(&mut t, "input", &d.inputs, w);
+        rows(&mut t, "result", &d.results, w);
     }
     let _ = writeln!(
         t,
