@@ -500,3 +500,22 @@ fn bad_inputs_exit_2_with_the_file_named() {
     f.set_len(seamlife::checker::MAX_RESULTS_BYTES + 1).unwrap();
     check(&["diff", "huge.json", b], "huge.json");
 }
+
+#[test]
+fn a_results_model_with_a_number_beyond_f64_is_refused() {
+    // 1e999 overflows a 64-bit float: the model is refused with its line, not read as inf
+    let dir = tempfile::tempdir().unwrap();
+    let text = serde_json::to_string_pretty(&assess(&rev_b())).unwrap();
+    let damage = "\"damage\": ";
+    let at = text.find(damage).unwrap() + damage.len();
+    let end = at + text[at..].find([',', '\n']).unwrap();
+    let bad = format!("{}1e999{}", &text[..at], &text[end..]);
+    std::fs::write(dir.path().join("inf.json"), bad).unwrap();
+    let (code, out, err) = run_in(
+        dir.path(),
+        &["diff", "inf.json", rev_b().to_str().unwrap(), "--json"],
+    );
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("inf.json:"), "{err}");
+    assert!(out.is_empty());
+}
