@@ -519,3 +519,39 @@ fn a_results_model_with_a_number_beyond_f64_is_refused() {
     assert!(err.contains("inf.json:"), "{err}");
     assert!(out.is_empty());
 }
+
+#[test]
+fn a_changed_table_file_is_found_by_its_hash_and_its_detail_listed() {
+    // a copy of the batch demo with one stress row of detail G001-00 changed
+    let dir = tempfile::tempdir().unwrap();
+    let hall = root().join("projects/kestrel-bay-hall");
+    std::fs::create_dir(dir.path().join("tables")).unwrap();
+    std::fs::copy(hall.join("project.yaml"), dir.path().join("project.yaml")).unwrap();
+    std::fs::copy(
+        hall.join("tables/details.csv"),
+        dir.path().join("tables/details.csv"),
+    )
+    .unwrap();
+    let stresses = std::fs::read_to_string(hall.join("tables/stresses.csv")).unwrap();
+    let row = "G001-00,normal,loaded-passage,,27.19,0,,1\n";
+    assert!(stresses.contains(row), "the demo's first stress row");
+    std::fs::write(
+        dir.path().join("tables/stresses.csv"),
+        stresses.replacen(row, "G001-00,normal,loaded-passage,,30.5,0,,1\n", 1),
+    )
+    .unwrap();
+    let (code, v) = diff_json(&hall.join("project.yaml"), &dir.path().join("project.yaml"));
+    assert!(code <= 1);
+    assert_eq!(items(&v["project"]), ["table[tables/stresses.csv].sha256"]);
+    assert_eq!(ids(&v["changed"]), ["G001-00"]);
+    let g = changed(&v, "G001-00");
+    let c = change(
+        &g["inputs"],
+        "normal.loading[loaded-passage].block[1].max_mpa",
+    );
+    assert_eq!(
+        (c["old"].as_f64(), c["new"].as_f64()),
+        (Some(27.19), Some(30.5))
+    );
+    assert_eq!(v["unchanged"], 2399);
+}
