@@ -555,3 +555,46 @@ fn a_changed_table_file_is_found_by_its_hash_and_its_detail_listed() {
     );
     assert_eq!(v["unchanged"], 2399);
 }
+
+#[test]
+fn a_changed_catalogue_entry_and_a_removed_component_are_listed() {
+    // RG3-S01's stiffener entry changed for the transverse attachment entry, and the
+    // shear component of RG3-W01 removed (demo keys of en1993-1-9)
+    let dir = b_copy(&[
+        (
+            "detail: stiffener-vertical-l-upto-50",
+            "detail: attachment-transverse-l-upto-50",
+        ),
+        (
+            "    shear:\n      category: 80\n      loading:\n        - event: loaded passage\n          per_year: 9000\n          blocks: [{range_mpa: 31, cycles: 1}]\n        - event: unloaded passage\n          per_year: 9000\n          blocks: [{range_mpa: 12, cycles: 1}]\n",
+            "",
+        ),
+    ]);
+    let (_, v) = diff_json(&rev_b(), &dir.path().join("b.yaml"));
+    assert_eq!(ids(&v["changed"]), ["RG3-W01", "RG3-S01"]);
+    let s01 = changed(&v, "RG3-S01");
+    let c = change(&s01["inputs"], "catalogue_entry");
+    assert_eq!(c["old"], "stiffener-vertical-l-upto-50");
+    assert_eq!(c["new"], "attachment-transverse-l-upto-50");
+    let w01 = changed(&v, "RG3-W01");
+    let c = change(&w01["inputs"], "shear.component");
+    assert_eq!(
+        (&c["old"], &c["new"]),
+        (&Value::from("present"), &Value::Null)
+    );
+    assert_eq!(items(&w01["inputs"]), ["shear.component"]);
+    // without its shear the weld is governed by the normal check alone
+    assert_eq!(change(&w01["results"], "governing_check")["new"], "normal");
+}
+
+#[test]
+fn a_full_standard_output_is_an_error_not_a_silent_loss() {
+    let full = std::fs::OpenOptions::new()
+        .write(true)
+        .open("/dev/full")
+        .unwrap();
+    let (code, _, err) =
+        run(cmd(&["diff", rev_a().to_str().unwrap(), rev_b().to_str().unwrap()]).stdout(full));
+    assert_eq!(code, 3, "{err}");
+    assert!(err.contains("cannot write to standard output"), "{err}");
+}
