@@ -17,6 +17,7 @@ pub mod input;
 pub mod merge;
 pub mod report;
 pub mod results;
+pub mod schema;
 pub mod starter;
 
 /// The signal stage's modules, also at the crate root for callers that count series

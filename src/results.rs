@@ -8,7 +8,7 @@ use serde::{Deserialize, Serialize};
 
 pub const MODEL_VERSION: u32 = 2;
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct Results {
     pub model_version: u32,
     pub tool: ToolInfo,
@@ -25,13 +25,13 @@ pub struct Results {
     pub cautions: Vec<String>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct ToolInfo {
     pub name: String,
     pub version: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct InputInfo {
     /// File name only (no folders), so results do not depend on the machine.
     pub file_name: String,
@@ -48,7 +48,7 @@ pub struct InputInfo {
 }
 
 /// Which part of a project's details a results model holds.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct ShardInfo {
     /// 1-based part number.
     pub part: usize,
@@ -59,7 +59,7 @@ pub struct ShardInfo {
     pub total_details: usize,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct SeriesFileInfo {
     /// Path as written in the project file.
     pub file: String,
@@ -67,7 +67,7 @@ pub struct SeriesFileInfo {
     pub bytes: u64,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct ProjectEcho {
     pub title: String,
     pub reference: String,
@@ -81,7 +81,7 @@ pub struct ProjectEcho {
     pub revisions: Vec<RevisionEcho>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct RevisionEcho {
     pub revision: String,
     pub date: String,
@@ -89,7 +89,7 @@ pub struct RevisionEcho {
     pub by: Option<String>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct FamilyInfo {
     pub id: String,
     pub title: String,
@@ -105,7 +105,7 @@ pub struct FamilyInfo {
     pub sha256: Option<String>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct FactorUsed {
     pub value: f64,
     /// Where the value comes from (clause), or the family's value when overridden.
@@ -117,7 +117,7 @@ pub struct FactorUsed {
     pub family_value: f64,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CurveSegmentInfo {
     pub slope_m: f64,
     /// Cycles where the segment ends; `null`: continues without cut-off.
@@ -126,7 +126,7 @@ pub struct CurveSegmentInfo {
     pub knee_name: Option<String>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CurveRuleInfo {
     pub component: String,
     pub symbol: String,
@@ -139,7 +139,7 @@ pub struct CurveRuleInfo {
     pub source: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct BasisUsed {
     pub design_life_years: f64,
     pub strategy: String,
@@ -168,7 +168,7 @@ pub struct BasisUsed {
     pub judgements: Vec<String>,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct InteractionRule {
     pub normal_exponent: f64,
     pub shear_exponent: f64,
@@ -177,7 +177,7 @@ pub struct InteractionRule {
     pub source: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct Summary {
     pub details: usize,
     pub passed: usize,
@@ -189,7 +189,7 @@ pub struct Summary {
     pub warnings: usize,
 }
 
-#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum Status {
     Pass,
@@ -209,13 +209,13 @@ impl Status {
     }
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct Warning {
     pub code: String,
     pub message: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct DetailResult {
     pub id: String,
     pub location: String,
@@ -252,7 +252,7 @@ pub struct DetailResult {
 }
 
 /// One verification of a detail, stated in its own measure.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CheckResult {
     /// `normal`, `shear` or `interaction`.
     pub name: String,
@@ -267,7 +267,7 @@ pub struct CheckResult {
     pub source: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct InteractionResult {
     pub normal_ratio: f64,
     pub shear_ratio: f64,
@@ -279,7 +279,7 @@ pub struct InteractionResult {
     pub source: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct SizeCorrection {
     pub applies: bool,
     pub thickness_mm: f64,
@@ -292,7 +292,7 @@ pub struct SizeCorrection {
     pub exponent_from: String,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct MeanStressCorrection {
     pub case: String,
     pub case_name: String,
@@ -305,7 +305,7 @@ pub struct MeanStressCorrection {
     pub acted: bool,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CurvePoint {
     pub cycles: f64,
     pub range_mpa: f64,
@@ -314,7 +314,7 @@ pub struct CurvePoint {
 }
 
 /// An S-N curve fixed by its reference point and knees (all MPa and cycles).
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CurveResult {
     pub reference_cycles: f64,
     pub reference_range_mpa: f64,
@@ -325,7 +325,7 @@ pub struct CurveResult {
     pub cut_off: bool,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct BlockResult {
     pub event: String,
     /// `given` for a block of the project file, `counted` for a rainflow cell.
@@ -350,14 +350,14 @@ pub struct BlockResult {
     pub damage: f64,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct BandDamage {
     pub label: String,
     pub cycles_design_life: f64,
     pub damage: f64,
 }
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct ComponentResult {
     pub component: String,
     pub symbol: String,
@@ -418,7 +418,7 @@ pub struct ComponentResult {
 }
 
 /// A measured or simulated record counted by rainflow for one loading event.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CountedRecord {
     pub event: String,
     pub file: String,
@@ -451,7 +451,7 @@ pub struct CountedRecord {
 /// Histogram bins and matrix cells are the counting stage's own serialisable types.
 pub use crate::histories::spectrum::{MatrixCell, RangeBin as HistogramBin};
 
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CatalogueEntryUsed {
     pub key: String,
     pub reference: String,
@@ -464,7 +464,7 @@ pub struct CatalogueEntryUsed {
 }
 
 /// A curve variant a component was assessed on.
-#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
 pub struct CurveVariantUsed {
     pub name: String,
     pub description: String,

@@ -1,7 +1,14 @@
 //! The starter project written by `seamlife new`.
 
+/// The schema file `seamlife new` writes beside the starter, named by its first line.
+pub const STARTER_SCHEMA_FILE: &str = "project.schema.json";
+
 /// A small project that passes `seamlife lint`: edit it rather than start from nothing.
-pub const STARTER_PROJECT: &str = r#"# seamlife project file (schema version 1).
+/// Its first line names [`STARTER_SCHEMA_FILE`] for editors.
+pub const STARTER_PROJECT: &str = r#"# yaml-language-server: $schema=project.schema.json
+# seamlife project file (schema version 1). The line above points YAML editor
+# extensions to the schema beside this file (`seamlife schema project` writes it
+# again), for completion and checks while typing; `seamlife lint` has the last word.
 # Units are in the key names: MPa, mm, years, cycles.
 # The values below only show the shape of the file: replace each with your
 # project's own. They describe no real structure.

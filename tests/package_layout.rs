@@ -439,3 +439,19 @@ fn undrawable_characters_are_warned_about_with_their_field() {
     let (_, _, err) = run(&["lint".as_ref(), demos()[1].as_os_str()]);
     assert!(!err.contains("cannot be drawn"), "{err}");
 }
+
+#[test]
+fn the_changes_section_and_its_marks_stay_inside_the_margins() {
+    // `report --previous`: the changes section, the marked summary and the change
+    // boxes of the sheets, on the demo's revision B against revision A
+    let dir = tempfile::tempdir().unwrap();
+    let pdf = dir.path().join("b.pdf");
+    let old = root().join("projects/kestrel-bay-runway-rev-a.yaml");
+    let (code, _, err) = render(
+        &root().join("projects/kestrel-bay-runway.yaml"),
+        &pdf,
+        &["--previous", old.to_str().unwrap()],
+    );
+    assert!(code == 0 || code == 1, "exit {code}: {err}");
+    assert_nothing_overflows(&pdf, "demo with --previous");
+}

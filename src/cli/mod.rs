@@ -4,6 +4,7 @@
 mod assess;
 mod classes;
 mod count;
+mod diff;
 mod fit;
 mod lint;
 mod merge;
@@ -11,6 +12,7 @@ mod new;
 pub mod output;
 pub mod progress;
 mod report;
+mod schema;
 pub mod stream;
 mod verify;
 
@@ -23,6 +25,7 @@ use crate::error::{Error, EXIT_BAD_INPUT, EXIT_FAIL, EXIT_INTERNAL, EXIT_PASS};
 use crate::results::{Results, Status};
 pub use assess::{shard_range, AssessArgs};
 pub use count::{CountArgs, FormatArg, ResidueArg, UnitArg};
+pub use diff::DiffArgs;
 pub use fit::{fit_table, FitArgs, MethodArg, StressArg};
 pub use output::{fmt_life, print_err, print_out, table, write_atomic};
 pub use report::ReportArgs;
@@ -79,6 +82,12 @@ pub enum Command {
     /// Re-run a submitted results model's project and list every input, version and
     /// value that differs (exit 0 agree, 1 differences, 2 bad input).
     Verify(VerifyArgs),
+    /// Compare two revisions (project files or results models): details added, removed
+    /// and changed, every input and result that differs (exit 1 when a status got worse).
+    Diff(diff::DiffArgs),
+    /// Print the JSON Schema of a project file, a results model or a diff model (for
+    /// editor completion and validation, and for tools reading --json).
+    Schema(schema::SchemaArgs),
 }
 
 /// Parse arguments, run, print errors, and return the process exit code. A panic
@@ -231,6 +240,8 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Classes { family } => classes::run(family.as_deref(), &library),
         Command::New { dir } => new::run(dir, &library),
         Command::Verify(a) => verify::run(a, &library),
+        Command::Diff(a) => diff::run(a, &library),
+        Command::Schema(a) => schema::run(a),
     }
 }
 

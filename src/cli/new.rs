@@ -42,8 +42,18 @@ pub(super) fn run(dir: &Path, library: &Library) -> Result<i32, Error> {
     // The starter must pass its own check.
     crate::input::load_project(&target, library)
         .map_err(|e| Error::Internal(format!("starter project does not pass lint: {e}")))?;
+    // The schema the starter's first line names, for editors; one already there is
+    // left as it is.
+    let schema = dir.join(crate::starter::STARTER_SCHEMA_FILE);
+    let schema_note = if std::fs::symlink_metadata(&schema).is_ok() {
+        format!(" ({} already there, left as it is)", schema.display())
+    } else {
+        let text = crate::schema::schema_text(crate::schema::SchemaKind::Project);
+        write_new(&schema, text.as_bytes())?;
+        format!(" and {} for editors", schema.display())
+    };
     super::output::print_text(&format!(
-        "wrote {}; edit it, then run `seamlife assess {}`\n",
+        "wrote {}{schema_note}; edit it, then run `seamlife assess {}`\n",
         target.display(),
         target.display()
     ))?;

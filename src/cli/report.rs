@@ -27,6 +27,10 @@ pub struct ReportArgs {
     /// up to 200 details, else top:100]. Every detail is listed in the summary table.
     #[arg(long, value_name = "RULE", value_parser = parse_sheets)]
     pub sheets: Option<crate::report::sheets::SheetSelection>,
+    /// An earlier revision (project file or results model): adds a "changes since
+    /// revision X" section and marks changed values in the summary and on the sheets.
+    #[arg(long, value_name = "OLD")]
+    pub previous: Option<PathBuf>,
     /// Write PDF/A-2b.
     #[arg(long)]
     pub pdf_a: bool,
@@ -42,6 +46,12 @@ fn parse_sheets(s: &str) -> Result<crate::report::sheets::SheetSelection, String
     crate::report::sheets::SheetSelection::parse(s)
 }
 
+fn file_name(p: &Path) -> String {
+    p.file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| p.display().to_string())
+}
+
 /// A `.json` file is a results model; anything else a project file.
 fn is_results_file(p: &Path) -> bool {
     p.extension()
@@ -49,7 +59,7 @@ fn is_results_file(p: &Path) -> bool {
 }
 
 pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Result<i32, Error> {
-    let (owned, inputs);
+    let (owned, mut inputs);
     if is_results_file(&a.file) {
         let r = crate::merge::read_results(&a.file)?;
         if let Some(sh) = &r.shard {
@@ -85,6 +95,26 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
     for w in crate::report::glyphs::warnings(&echo, &results.input.text) {
         super::output::print_err(&format!("{w}\n"));
     }
+    let previous = match &a.previous {
+        Some(old) => {
+            let (old_results, mut old_side) = super::diff::load_side(old, library, &mut inputs)?;
+            // the package names the file only, so it does not depend on the machine
+            old_side.file = file_name(old);
+            let kind = if is_results_file(&a.file) {
+                "results"
+            } else {
+                "project"
+            };
+            let new_side = crate::checker::diff::side(results, &file_name(&a.file), kind);
+            Some(crate::checker::diff::diff(
+                &old_results,
+                results,
+                old_side,
+                new_side,
+            ))
+        }
+        None => None,
+    };
     let opts = crate::report::ReportOptions {
         output: a.output.clone(),
         templates: a.templates.clone(),
@@ -95,6 +125,7 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         timeout: Some(std::time::Duration::from_secs(a.typst_timeout)),
         inputs,
         sheets: a.sheets.clone().unwrap_or_default(),
+        previous,
     };
     let pending = crate::report::prepare_report(results, &opts)?;
     let s = &results.summary;

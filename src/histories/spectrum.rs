@@ -85,7 +85,7 @@ pub enum SpectrumError {
 }
 
 /// One bin of the range histogram.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
 pub struct RangeBin {
     /// Lower edge (included), MPa.
     pub lo_mpa: f64,
@@ -96,7 +96,7 @@ pub struct RangeBin {
 }
 
 /// One cell of the range-mean matrix.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
 pub struct MatrixCell {
     /// Lower range edge (included), MPa.
     pub range_lo_mpa: f64,

@@ -28,10 +28,11 @@ impl ProjectFile {
 /// The schema version this build reads.
 pub const SCHEMA_VERSION: u32 = 1;
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ProjectFile {
     /// Schema version of the project file.
+    #[schemars(range(min = 1, max = 1))]
     pub seamlife: u32,
     pub project: ProjectInfo,
     pub basis: Basis,
@@ -48,7 +49,7 @@ pub struct ProjectFile {
 }
 
 /// A load event declared once for the table rows that name it.
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct EventDecl {
     pub name: String,
@@ -60,7 +61,7 @@ pub struct EventDecl {
 
 /// CSV tables of details, stress blocks and stress histories (paths relative to the
 /// project file).
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Tables {
     /// One row per detail.
@@ -84,7 +85,7 @@ pub struct Tables {
     pub allow_outside_project: bool,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ProjectInfo {
     #[serde(deserialize_with = "text_title")]
@@ -99,6 +100,7 @@ pub struct ProjectInfo {
     pub checked_by: Option<String>,
     /// ISO date, YYYY-MM-DD.
     #[serde(deserialize_with = "text_date")]
+    #[schemars(pattern(r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$"))]
     pub date: String,
     #[serde(default)]
     pub client: Option<String>,
@@ -111,7 +113,7 @@ pub struct ProjectInfo {
     pub revisions: Vec<Revision>,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Revision {
     #[serde(deserialize_with = "text_revision")]
@@ -124,7 +126,7 @@ pub struct Revision {
     pub by: Option<String>,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum Strategy {
     SafeLife,
@@ -140,7 +142,7 @@ impl Strategy {
     }
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum Consequence {
     High,
@@ -156,7 +158,7 @@ impl Consequence {
     }
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Basis {
     /// Id of a curve family (a file in joint-classes/).
@@ -191,7 +193,7 @@ pub struct Basis {
 }
 
 /// A user's override of a family value; the reason is printed in the report.
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Override {
     pub value: f64,
@@ -199,7 +201,7 @@ pub struct Override {
     pub reason: String,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Material {
     pub fy_mpa: f64,
@@ -207,7 +209,7 @@ pub struct Material {
     pub description: Option<String>,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Detail {
     #[serde(deserialize_with = "text_id")]
@@ -247,7 +249,7 @@ pub struct Detail {
     pub shear: Option<ComponentInput>,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ComponentInput {
     /// Detail category (ΔσC or FAT) in MPa at the family's reference cycles.
@@ -261,7 +263,7 @@ pub struct ComponentInput {
 }
 
 /// Whether a component's loading is constant or variable amplitude.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum Amplitude {
     Constant,
@@ -277,7 +279,7 @@ impl Amplitude {
     }
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct LoadEvent {
     #[serde(deserialize_with = "text_event")]
@@ -298,7 +300,7 @@ pub struct LoadEvent {
     pub table_history: Option<usize>,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Block {
     #[serde(default)]
@@ -313,7 +315,7 @@ pub struct Block {
 }
 
 /// A stress or strain time series in a CSV file, counted by rainflow.
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct SeriesInput {
     /// Path relative to the project file.
@@ -356,7 +358,7 @@ fn yes() -> bool {
     true
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, schemars::JsonSchema)]
 #[serde(untagged)]
 pub enum ColumnSelector {
     Index(usize),
@@ -452,14 +454,14 @@ required_texts! {
     text_file => "file",
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum SeriesUnitInput {
     Mpa,
     Microstrain,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
 #[serde(rename_all = "kebab-case")]
 pub enum ResidueInput {
     Repeated,

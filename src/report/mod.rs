@@ -2,6 +2,7 @@
 //! render Typst source, plots are SVG written in Rust, and the external `typst` program
 //! compiles the PDF inside a temporary build folder.
 
+pub mod changes;
 pub mod fit_sheet;
 mod glyph_ranges;
 pub mod glyphs;
@@ -43,6 +44,9 @@ pub struct ReportOptions {
     pub inputs: crate::files::write::Inputs,
     /// Which details get a full sheet (all are in the summary table).
     pub sheets: sheets::SheetSelection,
+    /// The diff against an earlier revision (`--previous`): adds the "changes since"
+    /// section and marks changed values.
+    pub previous: Option<crate::checker::diff::DiffReport>,
 }
 
 /// The generated files of one package, before compilation.
@@ -136,17 +140,20 @@ pub fn parse_epoch(t: &str) -> Result<i64, Error> {
 }
 
 /// Everything the templates see: the results model as `r`, plus file names of plots.
+/// `changes` holds the changes since an earlier revision (`null` without one).
 pub fn template_context(
     r: &Results,
     plot_files: &PlotFiles,
     sheets: &Sheets,
     population: &Population,
+    changes: Option<&changes::ChangesContext>,
 ) -> Value {
     json!({
         "r": r,
         "plots": plot_files,
         "sheets": sheets,
         "population": population,
+        "changes": changes,
         "meta": {
             "short_hash": &r.input.sha256[..r.input.sha256.len().min(12)],
             "typst_version": TYPST_VERSION,
@@ -229,6 +236,16 @@ pub fn build_files_for(
     template_dir: Option<&Path>,
     sheets: &Sheets,
 ) -> Result<BuildFiles, Error> {
+    build_files_with(r, template_dir, sheets, None)
+}
+
+/// As [`build_files_for`], with the diff against an earlier revision.
+pub fn build_files_with(
+    r: &Results,
+    template_dir: Option<&Path>,
+    sheets: &Sheets,
+    previous: Option<&crate::checker::diff::DiffReport>,
+) -> Result<BuildFiles, Error> {
     let mut files: Vec<(String, Vec<u8>)> = Vec::new();
     let mut pf = PlotFiles {
         utilisation: "plots/utilisation.svg".into(),
@@ -294,7 +311,8 @@ pub fn build_files_for(
         }
         pf.details.push(comps);
     }
-    let ctx = template_context(r, &pf, sheets, &population);
+    let changes = previous.map(changes::context);
+    let ctx = template_context(r, &pf, sheets, &population, changes.as_ref());
     let main = templates::render(&ctx, template_dir)?;
     files.push(("main.typ".into(), main.into_bytes()));
     files.push(("project.yaml".into(), r.input.text.clone().into_bytes()));
@@ -337,7 +355,12 @@ pub fn prepare_report(r: &Results, opts: &ReportOptions) -> Result<typst::Compil
     // Refuse a bad output before the work of typesetting.
     crate::files::write::check_target(&out, &opts.inputs)?;
     let (indices, rule) = opts.sheets.select(r)?;
-    let build = build_files_for(r, opts.templates.as_deref(), &Sheets::of(r, indices, rule))?;
+    let build = build_files_with(
+        r,
+        opts.templates.as_deref(),
+        &Sheets::of(r, indices, rule),
+        opts.previous.as_ref(),
+    )?;
     if let Some(sig) = crate::files::cleanup::interrupted() {
         return Err(Error::Interrupted(sig));
     }

@@ -47,6 +47,14 @@ pub const BUILT_IN: &[(&str, &str)] = &[
         include_str!("../../templates/appendix.typ.tera"),
     ),
     (
+        "changes-marks.typ.tera",
+        include_str!("../../templates/changes-marks.typ.tera"),
+    ),
+    (
+        "changes.typ.tera",
+        include_str!("../../templates/changes.typ.tera"),
+    ),
+    (
         "fit-sheet.typ.tera",
         include_str!("../../templates/fit-sheet.typ.tera"),
     ),
