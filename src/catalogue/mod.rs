@@ -24,6 +24,10 @@ pub const EMBEDDED: &[(&str, &str)] = &[
         "dnv-rp-c203.yaml",
         include_str!("../../joint-classes/dnv-rp-c203.yaml"),
     ),
+    (
+        "bs7608.yaml",
+        include_str!("../../joint-classes/bs7608.yaml"),
+    ),
 ];
 
 /// The current version of the family file format.
