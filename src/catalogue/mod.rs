@@ -13,6 +13,9 @@ use serde::{Deserialize, Serialize};
 use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::locate::YamlPath;
 
+mod pair;
+pub use pair::{AashtoPair, PairCategory};
+
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
     (
@@ -23,6 +26,10 @@ pub const EMBEDDED: &[(&str, &str)] = &[
     (
         "dnv-rp-c203.yaml",
         include_str!("../../joint-classes/dnv-rp-c203.yaml"),
+    ),
+    (
+        "aashto-lrfd.yaml",
+        include_str!("../../joint-classes/aashto-lrfd.yaml"),
     ),
     (
         "bs7608.yaml",
@@ -283,6 +290,10 @@ pub enum UtilisationForm {
     /// γFf·Δσ/ΔσR,d(n): the design range over the design resistance at the cycle count
     /// (constant amplitude only).
     RangeAtCycles,
+    /// The AASHTO LRFD pair: Fatigue I (infinite life, γ·(Δf)max ≤ (ΔF)TH) and
+    /// Fatigue II (finite life, γ·(Δf)eff ≤ (A/N)^(1/3)), one of them in force
+    /// (`verification.aashto_pair`).
+    AashtoPair,
 }
 
 impl UtilisationForm {
@@ -291,6 +302,7 @@ impl UtilisationForm {
             UtilisationForm::RangeRatio => "range-ratio",
             UtilisationForm::DamageRatio => "damage-ratio",
             UtilisationForm::RangeAtCycles => "range-at-cycles",
+            UtilisationForm::AashtoPair => "aashto-pair",
         }
     }
 }
@@ -306,6 +318,9 @@ pub struct Verification {
     /// How constant-amplitude loading is verified where the code treats it apart.
     #[serde(default)]
     pub constant_amplitude: Option<ConstantAmplitudeCheck>,
+    /// Data of the `aashto-pair` form (load factors, cycle rule, categories).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub aashto_pair: Option<AashtoPair>,
 }
 
 /// The verification of constant-amplitude loading, where it differs from the
@@ -403,6 +418,10 @@ pub struct CatalogueEntry {
     /// and the entry's `thickness_exponent`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub size_rule: Option<SizeRule>,
+    /// The detail category letter of an `aashto-pair` family (e.g. `C′`): it sets the
+    /// threshold and the in-force rule; `normal_category` names its finite-life class.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub category_letter: Option<String>,
 }
 
 impl CatalogueEntry {
@@ -607,6 +626,7 @@ impl Family {
             }
         }
         self.check_published()?;
+        self.check_pair()?;
         let pf = root.key("partial_factors");
         positive(
             pf.key("gamma_ff").key("value"),
@@ -1054,7 +1074,7 @@ pub struct FamilyProblem {
 }
 
 impl FamilyProblem {
-    fn new(path: YamlPath, message: impl Into<String>) -> Self {
+    pub(crate) fn new(path: YamlPath, message: impl Into<String>) -> Self {
         FamilyProblem {
             path,
             message: message.into(),
@@ -1063,7 +1083,7 @@ impl FamilyProblem {
 }
 
 /// A finite number greater than zero, or a problem at `path`.
-fn positive(path: YamlPath, what: &str, v: f64) -> Result<(), FamilyProblem> {
+pub(crate) fn positive(path: YamlPath, what: &str, v: f64) -> Result<(), FamilyProblem> {
     let message = if v.is_nan() {
         format!("{what} is not a number (NaN)")
     } else if v.is_infinite() {
