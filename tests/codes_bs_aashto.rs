@@ -422,3 +422,28 @@ fn the_demo_projects_assess() {
         .iter()
         .any(|m| m.contains("Fatigue I (infinite life)")));
 }
+
+#[test]
+fn classes_lists_the_new_families() {
+    let bin = env!("CARGO_BIN_EXE_seamlife");
+    let out = std::process::Command::new(bin)
+        .arg("classes")
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.contains("bs7608") && text.contains("aashto-lrfd"),
+        "{text}"
+    );
+    let out = std::process::Command::new(bin)
+        .args(["classes", "aashto-lrfd"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    // Table 6.6.1.2.5-3 and 6.6.1.2.3-2, category C′ (from memory)
+    assert!(
+        text.contains("(ΔF)TH = 12 ksi = 82.7 MPa, infinite life above (ADTT)SL 745"),
+        "{text}"
+    );
+}

@@ -1265,7 +1265,10 @@ mod tests {
     #[test]
     fn embedded_families_load_and_check() {
         let lib = Library::load(None).unwrap();
-        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
+        assert_eq!(
+            lib.ids(),
+            vec!["aashto-lrfd", "bs7608", "dnv-rp-c203", "en1993-1-9", "iiw"]
+        );
         let en = lib.get("en1993-1-9").unwrap();
         // EN 1993-1-9 Fig. 7.1: 14 normal-stress categories 160 ... 36
         assert_eq!(en.curves.normal.categories_mpa.len(), 14);
@@ -1677,7 +1680,10 @@ mod tests {
             &EN.replace("data_version: \"", "data_version: \"firm-"),
         );
         let lib = Library::load(Some(dir.path())).unwrap();
-        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
+        assert_eq!(
+            lib.ids(),
+            vec!["aashto-lrfd", "bs7608", "dnv-rp-c203", "en1993-1-9", "iiw"]
+        );
         let en = lib.get("en1993-1-9").unwrap();
         assert!(en.data_version.starts_with("firm-"));
         assert_eq!(en.origin, p.display().to_string());
