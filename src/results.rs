@@ -249,6 +249,59 @@ pub struct DetailResult {
     pub interaction: Option<InteractionResult>,
     pub warnings: Vec<Warning>,
     pub notes: Vec<String>,
+    /// The AASHTO LRFD pair (Fatigue I and Fatigue II) of a family of the
+    /// `aashto-pair` form; absent for other families.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub truck_pair: Option<TruckPairResult>,
+}
+
+/// The AASHTO LRFD pair of one detail: Fatigue I (infinite life) and Fatigue II
+/// (finite life), each in its own measure, and which one is in force.
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq, schemars::JsonSchema)]
+pub struct TruckPairResult {
+    /// Detail category letter, e.g. `C′`.
+    pub category_letter: String,
+    pub adtt_single_lane: f64,
+    pub cycles_per_truck_passage: f64,
+    /// Stress-range cycles over the design life N = days·Y·n·(ADTT)SL.
+    pub cycles_design_life: f64,
+    /// A of N = A·Δf^(-3): the source's ksi³ and the curve's MPa³.
+    pub constant_ksi3: f64,
+    pub constant_mpa3: f64,
+    /// Constant-amplitude fatigue threshold (ΔF)TH.
+    pub threshold_ksi: f64,
+    pub threshold_mpa: f64,
+    /// 75-year single-lane ADTT above which infinite life governs (the category's).
+    pub infinite_life_adtt: f64,
+    /// `fatigue-i` or `fatigue-ii`: the check that decides pass or fail.
+    pub in_force: String,
+    pub in_force_reason: String,
+    /// Fatigue I: γ, the largest range, γ·(Δf)max (MPa and ksi), ratio to (ΔF)TH.
+    pub fatigue_i_factor: f64,
+    pub max_range_mpa: f64,
+    pub fatigue_i_design_range_mpa: f64,
+    pub fatigue_i_design_range_ksi: f64,
+    pub fatigue_i_ratio: f64,
+    pub fatigue_i_passes: bool,
+    /// Fatigue II: γ, the effective range (Σ nΔf³/Σ n)^(1/3), γ·(Δf)eff (MPa and
+    /// ksi), the resistance (A/N)^(1/3) (MPa and ksi) and the ratio.
+    pub fatigue_ii_factor: f64,
+    pub effective_range_mpa: f64,
+    pub fatigue_ii_design_range_mpa: f64,
+    pub fatigue_ii_design_range_ksi: f64,
+    pub finite_life_resistance_mpa: f64,
+    pub finite_life_resistance_ksi: f64,
+    pub fatigue_ii_ratio: f64,
+    pub fatigue_ii_passes: bool,
+    /// Finite life under the Fatigue II load, years (none without a range).
+    pub fatigue_ii_life_years: Option<f64>,
+    /// Lowest category letter for which the check in force passes (none: no letter).
+    pub required_letter: Option<String>,
+    pub fatigue_i_source: String,
+    pub fatigue_ii_source: String,
+    pub cycles_source: String,
+    pub effective_range_source: String,
+    pub in_force_source: String,
 }
 
 /// One verification of a detail, stated in its own measure.

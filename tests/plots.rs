@@ -306,6 +306,7 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
         interaction: None,
         warnings: Vec::new(),
         notes: Vec::new(),
+        truck_pair: None,
     }
 }
 

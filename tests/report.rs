@@ -337,3 +337,40 @@ fn default_output_name_from_reference_and_revision() {
     assert!(o.status.code().unwrap() <= 1);
     assert!(dir.path().join("KB-2231-revB-fatigue.pdf").exists());
 }
+
+#[test]
+fn bs7608_demo_package_matches_results() {
+    check_package(&root().join("projects/kestrel-bay-gangway.yaml"));
+}
+
+#[test]
+fn aashto_demo_package_states_both_checks_with_their_clauses() {
+    let project = root().join("projects/heron-creek-bridge.yaml");
+    check_package(&project);
+    let dir = tempfile::tempdir().unwrap();
+    let pdf = dir.path().join("p.pdf");
+    let (code, _, err) = render(&project, &pdf, &[]);
+    assert_eq!(code, 0, "{err}");
+    let all = squash(&pages(&pdf).join("\n"));
+    let v = json_results(&project);
+    for d in v["details"].as_array().unwrap() {
+        let t = &d["truck_pair"];
+        // each detail states both ratios, rounded as in the package
+        for key in ["fatigue_i_ratio", "fatigue_ii_ratio"] {
+            // (the table's columns may interleave in the text: the number alone)
+            let x = format!("{:.3}", t[key].as_f64().unwrap());
+            assert!(all.contains(&x), "{} {key}: {x}", d["id"]);
+        }
+    }
+    // the clauses of both checks and of the cycle count (AASHTO LRFD 6.6.1.2, from memory)
+    for clause in [
+        "6.6.1.2.5-1",
+        "6.6.1.2.5-2",
+        "6.6.1.2.5-3",
+        "Table 6.6.1.2.3-2",
+        "Fatigue I (infinite life)",
+        "Fatigue II (finite life)",
+    ] {
+        assert!(all.contains(clause), "{clause}");
+    }
+}

@@ -24,6 +24,8 @@ pub struct ResolvedBasis {
     pub environment: Option<String>,
     /// Standard deviations of log N below the mean, for families publishing mean curves.
     pub std_devs: Option<FactorUsed>,
+    /// The AASHTO pair's traffic and factors (families of the `aashto-pair` form).
+    pub pair: Option<super::pair::PairBasis>,
 }
 
 fn factor(family_value: f64, source: &str, ov: &Option<crate::input::Override>) -> FactorUsed {
@@ -106,6 +108,7 @@ pub fn resolve_basis(file: &ProjectFile, fam: &Family) -> ResolvedBasis {
             .design_curve
             .as_ref()
             .map(|d| factor(d.default_std_devs, &d.source, &b.std_devs_below_mean)),
+        pair: super::pair::resolve(file, fam),
     }
 }
 
@@ -213,6 +216,7 @@ pub(super) fn basis_used(file: &ProjectFile, fam: &Family, basis: &ResolvedBasis
         form_text(basis.check_form, basis.damage_limit.value),
         basis.check_source
     ));
+    method.extend(super::pair::method_lines(fam, basis));
     if let Some(i) = &basis.interaction {
         method.push(format!(
             "Where normal and shear stress act together, (γFf·ΔσE,2/ΔσC,d)^{} + (γFf·ΔτE,2/ΔτC,d)^{} must not exceed {} ({}).",
@@ -277,6 +281,7 @@ fn form_text(form: UtilisationForm, dlim: f64) -> String {
     match form {
         UtilisationForm::RangeRatio => format!("by the equivalent-range ratio γFf·ΔσE,2/ΔσC,d = (D/D_lim)^(1/m₁) ≤ 1.0 with D_lim = {dlim}, ΔσE,2 being the constant range at the reference cycles that uses the same fraction of the damage limit on the first curve segment"),
         UtilisationForm::DamageRatio => format!("by the Palmgren-Miner ratio D/D_lim ≤ 1.0 with D_lim = {dlim}"),
+        UtilisationForm::AashtoPair => format!("by the AASHTO LRFD pair, Fatigue I and Fatigue II, stated below; the Fatigue II damage sum is the Palmgren-Miner sum with D_lim = {dlim}"),
         UtilisationForm::RangeAtCycles => format!("on the range: the design range γFf·Δσ must not exceed the design resistance ΔσR,d at the applied number of cycles (equivalent to D ≤ {dlim})"),
     }
 }

@@ -35,6 +35,9 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) environment: Option<String>,
     /// Stress concentration factor on the nominal stress (1 when none is given).
     pub(super) scf: f64,
+    /// Factor on the given cycles: the AASHTO pair scales them to the truck-passage
+    /// cycles (assess/pair.rs); 1 otherwise.
+    pub(super) cycles_scale: f64,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -148,6 +151,11 @@ pub(super) fn component_setups<'a>(
                 .clone()
                 .or_else(|| basis.environment.clone()),
             scf: det.scf.unwrap_or(1.0),
+            cycles_scale: super::pair::cycles_scale(
+                basis,
+                det,
+                h.blocks.iter().map(|b| b.cycles_per_year).sum(),
+            ),
         });
     }
     setups
@@ -237,7 +245,9 @@ fn block_results(
         // Design range γFf·Δσ_eff (EN 1993-1-9 eq. (8.2) numerator)
         let design_range = gff * eff;
         max_range = max_range.max(gff * b.range_mpa);
-        loads.push((design_range, b.cycles_per_year));
+        // the AASHTO pair's cycles from truck traffic (assess/pair.rs); factor 1 otherwise
+        let cycles_per_year = s.cycles_scale * b.cycles_per_year;
+        loads.push((design_range, cycles_per_year));
         let stress_ratio = match (b.max_mpa, b.min_mpa) {
             // stress ratio R = σmin/σmax (common practice)
             (Some(hi), Some(lo)) if hi != 0.0 => Some(lo / hi),
@@ -261,8 +271,8 @@ fn block_results(
             mean_stress_factor: f,
             effective_range_mpa: eff,
             design_range_mpa: design_range,
-            cycles_per_year: b.cycles_per_year,
-            cycles_design_life: b.cycles_per_year * years,
+            cycles_per_year,
+            cycles_design_life: cycles_per_year * years,
             segment: None,
             endurance_cycles: None,
             damage: 0.0,

@@ -10,6 +10,7 @@ mod basis;
 mod component;
 mod corrections;
 pub mod curve;
+mod pair;
 mod verify;
 
 use crate::catalogue::Family;
@@ -290,10 +291,15 @@ fn assess_detail(
         parts.push(p);
         outside |= out;
     }
-    let v = verify_detail(fam, basis, interaction, &parts, &mut comps);
+    let mut v = verify_detail(fam, basis, interaction, &parts, &mut comps);
+    // the AASHTO pair replaces the verdict by its check in force (assess/pair.rs)
+    let truck_pair = pair::verify_pair(fam, basis, det, &comps, &mut v);
     let status = if outside {
         Status::OutsideMethod
-    } else if v.checks.iter().all(|c| c.passes) {
+    } else if v
+        .passes
+        .unwrap_or_else(|| v.checks.iter().all(|c| c.passes))
+    {
         Status::Pass
     } else {
         Status::Fail
@@ -327,6 +333,7 @@ fn assess_detail(
         interaction: v.interaction,
         warnings: found.warnings,
         notes: found.notes,
+        truck_pair,
     }
 }
 

@@ -305,6 +305,9 @@ pub(super) struct Verdict {
     pub(super) life_years: Option<f64>,
     pub(super) reserve_factor: Option<f64>,
     pub(super) required_category: Option<f64>,
+    /// Whether the detail passes, where a verification form decides it by one check
+    /// (the AASHTO pair's check in force); `None`: every check must pass.
+    pub(super) passes: Option<bool>,
 }
 
 /// Design life over the life at which the interaction check reaches its limit. The
@@ -468,6 +471,7 @@ pub(super) fn verify_detail(
         life_years,
         reserve_factor,
         required_category,
+        passes: None,
     }
 }
 

@@ -13,6 +13,9 @@ use serde::{Deserialize, Serialize};
 use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::locate::YamlPath;
 
+mod pair;
+pub use pair::{AashtoPair, PairCategory};
+
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
     (
@@ -23,6 +26,14 @@ pub const EMBEDDED: &[(&str, &str)] = &[
     (
         "dnv-rp-c203.yaml",
         include_str!("../../joint-classes/dnv-rp-c203.yaml"),
+    ),
+    (
+        "aashto-lrfd.yaml",
+        include_str!("../../joint-classes/aashto-lrfd.yaml"),
+    ),
+    (
+        "bs7608.yaml",
+        include_str!("../../joint-classes/bs7608.yaml"),
     ),
 ];
 
@@ -279,6 +290,10 @@ pub enum UtilisationForm {
     /// γFf·Δσ/ΔσR,d(n): the design range over the design resistance at the cycle count
     /// (constant amplitude only).
     RangeAtCycles,
+    /// The AASHTO LRFD pair: Fatigue I (infinite life, γ·(Δf)max ≤ (ΔF)TH) and
+    /// Fatigue II (finite life, γ·(Δf)eff ≤ (A/N)^(1/3)), one of them in force
+    /// (`verification.aashto_pair`).
+    AashtoPair,
 }
 
 impl UtilisationForm {
@@ -287,6 +302,7 @@ impl UtilisationForm {
             UtilisationForm::RangeRatio => "range-ratio",
             UtilisationForm::DamageRatio => "damage-ratio",
             UtilisationForm::RangeAtCycles => "range-at-cycles",
+            UtilisationForm::AashtoPair => "aashto-pair",
         }
     }
 }
@@ -302,6 +318,9 @@ pub struct Verification {
     /// How constant-amplitude loading is verified where the code treats it apart.
     #[serde(default)]
     pub constant_amplitude: Option<ConstantAmplitudeCheck>,
+    /// Data of the `aashto-pair` form (load factors, cycle rule, categories).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub aashto_pair: Option<AashtoPair>,
 }
 
 /// The verification of constant-amplitude loading, where it differs from the
@@ -399,6 +418,10 @@ pub struct CatalogueEntry {
     /// and the entry's `thickness_exponent`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub size_rule: Option<SizeRule>,
+    /// The detail category letter of an `aashto-pair` family (e.g. `C′`): it sets the
+    /// threshold and the in-force rule; `normal_category` names its finite-life class.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub category_letter: Option<String>,
 }
 
 impl CatalogueEntry {
@@ -603,6 +626,7 @@ impl Family {
             }
         }
         self.check_published()?;
+        self.check_pair()?;
         let pf = root.key("partial_factors");
         positive(
             pf.key("gamma_ff").key("value"),
@@ -1050,7 +1074,7 @@ pub struct FamilyProblem {
 }
 
 impl FamilyProblem {
-    fn new(path: YamlPath, message: impl Into<String>) -> Self {
+    pub(crate) fn new(path: YamlPath, message: impl Into<String>) -> Self {
         FamilyProblem {
             path,
             message: message.into(),
@@ -1059,7 +1083,7 @@ impl FamilyProblem {
 }
 
 /// A finite number greater than zero, or a problem at `path`.
-fn positive(path: YamlPath, what: &str, v: f64) -> Result<(), FamilyProblem> {
+pub(crate) fn positive(path: YamlPath, what: &str, v: f64) -> Result<(), FamilyProblem> {
     let message = if v.is_nan() {
         format!("{what} is not a number (NaN)")
     } else if v.is_infinite() {
@@ -1241,7 +1265,10 @@ mod tests {
     #[test]
     fn embedded_families_load_and_check() {
         let lib = Library::load(None).unwrap();
-        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
+        assert_eq!(
+            lib.ids(),
+            vec!["aashto-lrfd", "bs7608", "dnv-rp-c203", "en1993-1-9", "iiw"]
+        );
         let en = lib.get("en1993-1-9").unwrap();
         // EN 1993-1-9 Fig. 7.1: 14 normal-stress categories 160 ... 36
         assert_eq!(en.curves.normal.categories_mpa.len(), 14);
@@ -1653,7 +1680,10 @@ mod tests {
             &EN.replace("data_version: \"", "data_version: \"firm-"),
         );
         let lib = Library::load(Some(dir.path())).unwrap();
-        assert_eq!(lib.ids(), vec!["dnv-rp-c203", "en1993-1-9", "iiw"]);
+        assert_eq!(
+            lib.ids(),
+            vec!["aashto-lrfd", "bs7608", "dnv-rp-c203", "en1993-1-9", "iiw"]
+        );
         let en = lib.get("en1993-1-9").unwrap();
         assert!(en.data_version.starts_with("firm-"));
         assert_eq!(en.origin, p.display().to_string());

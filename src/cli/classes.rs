@@ -94,6 +94,25 @@ fn family_listing(f: &Family, out: &mut String) {
             ));
         }
     }
+    if let Some(pair) = f.aashto_pair() {
+        out.push_str(&format!(
+            "category letters (Fatigue I γ = {}, Fatigue II γ = {}; 1 ksi = {} MPa):\n",
+            short_num(pair.fatigue_i_factor.value),
+            short_num(f.partial_factors.gamma_ff.value),
+            pair.ksi_to_mpa
+        ));
+        for (letter, c) in &pair.categories {
+            out.push_str(&format!(
+                "  {letter:<4} class {:<3} A = {:.3e} ksi³ = {:.4e} MPa³, (ΔF)TH = {} ksi = {} MPa, infinite life above (ADTT)SL {}\n",
+                c.class,
+                c.constant_ksi3,
+                c.constant_mpa3(pair.ksi_to_mpa),
+                short_num(c.threshold_ksi),
+                short_num(c.threshold_mpa),
+                short_num(c.infinite_life_adtt)
+            ));
+        }
+    }
     if let Some(envs) = &f.environments {
         out.push_str(&format!("environments (default `{}`):\n", envs.default));
         for (k, e) in &envs.cases {

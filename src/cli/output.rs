@@ -131,6 +131,16 @@ pub fn fmt_life(l: Option<f64>) -> String {
 }
 
 fn category_cell(d: &crate::results::DetailResult) -> String {
+    // the AASHTO pair: the category letter with its finite-life class label
+    if let Some(t) = &d.truck_pair {
+        return format!(
+            "{} ({})",
+            t.category_letter,
+            d.components
+                .first()
+                .map_or(String::new(), |c| short_num(c.category_mpa))
+        );
+    }
     d.components
         .iter()
         .map(|c| {

@@ -158,6 +158,7 @@ pub fn extension(
         mean_stress_case: None,
         curve_variant: None,
         size_rule: None,
+        category_letter: None,
     };
     let mut fam = base.clone();
     fam.id = format!("{}-plus-{key}", base.id);

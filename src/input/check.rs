@@ -62,6 +62,8 @@ pub(super) struct Problem {
     pub(super) hint: Option<String>,
 }
 
+mod traffic;
+
 struct Checker {
     problems: Vec<Problem>,
 }
@@ -258,6 +260,7 @@ pub(super) fn check(file: &ProjectFile, library: &Library) -> Vec<Problem> {
     check_materials(&mut c, file);
     check_events_and_tables(&mut c, file);
     check_details(&mut c, file, family);
+    traffic::check_truck_traffic(&mut c, file, family);
     c.problems
 }
 

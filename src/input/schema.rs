@@ -190,6 +190,14 @@ pub struct Basis {
     /// the family's default (families that publish mean curves, e.g. BS 7608).
     #[serde(default)]
     pub std_devs_below_mean: Option<Override>,
+    /// Single-lane average daily truck traffic (ADTT)SL over the design life, for the
+    /// AASHTO LRFD pair (families with the `aashto-pair` verification form).
+    #[serde(default)]
+    pub adtt_single_lane: Option<f64>,
+    /// Stress-range cycles per truck passage n (AASHTO LRFD Table 6.6.1.2.5-2); a
+    /// detail may give its own.
+    #[serde(default)]
+    pub cycles_per_truck_passage: Option<f64>,
 }
 
 /// A user's override of a family value; the reason is printed in the report.
@@ -243,6 +251,10 @@ pub struct Detail {
     /// detail's curve is for a local stress (e.g. DNV tubular joints).
     #[serde(default)]
     pub scf: Option<f64>,
+    /// Stress-range cycles per truck passage n of this detail (AASHTO pair), in place
+    /// of the project's.
+    #[serde(default)]
+    pub cycles_per_truck_passage: Option<f64>,
     #[serde(default)]
     pub normal: Option<ComponentInput>,
     #[serde(default)]

@@ -573,6 +573,7 @@ impl<'a> Reader<'a> {
                 thickness_exponent: c.number("thickness_exponent")?,
                 group: c.text("group"),
                 environment: None,
+                cycles_per_truck_passage: None,
                 scf: None,
                 normal: None,
                 shear: None,

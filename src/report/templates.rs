@@ -27,6 +27,10 @@ pub const BUILT_IN: &[(&str, &str)] = &[
         include_str!("../../templates/title-block.typ.tera"),
     ),
     (
+        "truck-pair.typ.tera",
+        include_str!("../../templates/truck-pair.typ.tera"),
+    ),
+    (
         "cautions.typ.tera",
         include_str!("../../templates/cautions.typ.tera"),
     ),

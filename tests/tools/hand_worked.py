@@ -280,6 +280,67 @@ def dnv():
     p("DNV D free corrosion: D over 20 years", D(20) * (D(1e4) / f80 + D(1e6) / f30))
 
 
+def bs7608():
+    """BS 7608 (1993 class data, from memory): log N = log C0 - d·σ - m·log Sr up to
+    1e7 cycles, slope m + 2 beyond; free corrosion: life / 2, slope m throughout;
+    thickness (16/t)^0.25 for t > 16 mm."""
+    def design_log(log_c0, sd, d=2):
+        return D(log_c0) - D(d) * D(sd)
+
+    def rng(log_c, m, n):
+        return pow10((D(log_c) - D(n).log10()) / D(m))
+
+    dd = design_log("12.6007", "0.2095")
+    p("BS D: Sr(2e6), d = 2", rng(dd, 3, 2e6))
+    p("BS D: Sr(1e7) knee, d = 2", rng(dd, 3, 1e7))
+    p("BS B: Sr(1e7) knee, m = 4, d = 2", rng(design_log("15.3697", "0.1821"), 4, 1e7))
+    p("BS C: Sr(2e6), m = 3.5, d = 2", rng(design_log("14.0342", "0.2041"), D("3.5"), 2e6))
+    p("BS F: Sr(2e6), d = 3", rng(design_log("12.2370", "0.2183", 3), 3, 2e6))
+    p("BS F: Sr(2e6), d = 0 (mean)", rng(D("12.2370"), 3, 2e6))
+    p("BS S1: Sr(2e6), m = 8, d = 2", rng(design_log("23.3284", "0.5296"), 8, 2e6))
+    p("BS ks t = 25: (16/25)^0.25", root(D(16) / 25, 4))
+    # worked damage sum, class F, 20 years: 80 MPa 1e4/year, 30 MPa 1e6/year
+    fl = design_log("12.2370", "0.2183")
+    knee = rng(fl, 3, 1e7)
+    n80 = pow10(fl) / D(80) ** 3
+    n30 = D(1e7) * (knee / 30) ** 5
+    p("BS F air: knee", knee)
+    p("BS F air: D over 20 years", D(20) * (D(1e4) / n80 + D(1e6) / n30))
+    # free corrosion: the file enters log C0 - log 2 = 11.93597 rounded to 11.9360
+    fc = D("11.9360") - 2 * D("0.2183")
+    p("BS F free corrosion: D over 20 years",
+      D(20) * (D(1e4) * D(80) ** 3 + D(1e6) * D(30) ** 3) / pow10(fc))
+    # constant amplitude 35 MPa, 1e6 a year, 20 years: below the knee, no damage in
+    # air; with cathodic protection no limit, m + 2 = 5 from the knee
+    p("BS F seawater-cp: D(35 MPa CA)", D(20) * D(1e6) / (D(1e7) * (knee / 35) ** 5))
+
+
+def aashto():
+    """AASHTO LRFD 6.6.1.2 (from memory): A[MPa³] = A[ksi³]·6.894757³;
+    N = 365·Y·n·ADTT_SL; Fatigue I γ = 1.75, Fatigue II γ = 0.80."""
+    k = D("6.894757")
+    p("AASHTO A: A in MPa³ = 250e8·k³", D("250e8") * k ** 3)
+    p("AASHTO A: log10 A[MPa³]", (D("250e8") * k ** 3).log10())
+    p("AASHTO E′: A in MPa³ = 3.9e8·k³", D("3.9e8") * k ** 3)
+    p("AASHTO A: (ΔF)TH = 24 ksi in MPa", 24 * k)
+    p("AASHTO E′: (ΔF)TH = 2.6 ksi in MPa", D("2.6") * k)
+    n = D(365) * 75 * 1 * 900
+    p("AASHTO N = 365·75·1·900", n)
+    # category E′ (curve log A = 11.1066 as in the family), spectrum 0.7×17 + 0.3×24 MPa
+    eff = root(D("0.7") * D(17) ** 3 + D("0.3") * D(24) ** 3, 3)
+    res = root(pow10("11.1066") / n, 3)
+    r2 = D("0.8") * eff / res
+    p("AASHTO E′: (Δf)eff", eff)
+    p("AASHTO E′: (A/N)^(1/3)", res)
+    p("AASHTO E′: Fatigue II ratio", r2)
+    p("AASHTO E′: Fatigue II ratio cubed (D)", r2 ** 3)
+    p("AASHTO E′: finite life 75/ratio³", 75 / r2 ** 3)
+    p("AASHTO E′: Fatigue I ratio 1.75·24/17.9", D("1.75") * 24 / D("17.9"))
+    # category C′, 31 MPa, ADTT 900 > 745: Fatigue I in force
+    p("AASHTO C′: Fatigue I ratio 1.75·31/82.7", D("1.75") * 31 / D("82.7"))
+    p("AASHTO C′: Fatigue II ratio", D("0.8") * 31 / root(pow10("12.159") / n, 3))
+
+
 if __name__ == "__main__":
     engine()
     curves()
@@ -287,3 +348,5 @@ if __name__ == "__main__":
     series()
     counts()
     dnv()
+    bs7608()
+    aashto()
