@@ -185,7 +185,12 @@ fn a_counted_record_in_one_cell_is_variable_amplitude() {
     let given = assess_in(dir.path(), &blocks);
     let g = &given.details[0].components[0];
     assert!(close(g.damage, 1.166157, 1e-6));
-    assert!(close(c.damage, g.damage, 1e-12), "{} vs {}", c.damage, g.damage);
+    assert!(
+        close(c.damage, g.damage, 1e-12),
+        "{} vs {}",
+        c.damage,
+        g.damage
+    );
 }
 
 #[test]
