@@ -77,7 +77,11 @@ pub fn load_checked(
     opts: input::LoadOptions,
 ) -> Result<Loaded, Error> {
     let project = input::load_project_with(path, library, opts)?;
-    let histories = histories::build(&project)?;
+    // the damage of every counted cycle is summed in the count, on the detail's curve
+    let histories = match library.get(&project.file.basis.family) {
+        Some(fam) => histories::build_with(&project, &assess::cycle_rules(&project, fam))?,
+        None => histories::build(&project)?,
+    };
     Ok(Loaded {
         project,
         histories,

@@ -161,6 +161,76 @@ pub(super) fn component_setups<'a>(
     setups
 }
 
+/// The damage of one counted cycle on one component: its own range and mean through
+/// the mean-stress rule, γFf, and the design curve (what [`block_results`] and
+/// [`damage_sum`] do to a block, done to every cycle in the streaming count).
+#[derive(Debug, Clone)]
+pub struct CycleDamageRule {
+    case: MeanStressCase,
+    normal: bool,
+    gamma_ff: f64,
+    design: SnCurve,
+}
+
+impl CycleDamageRule {
+    /// The rule of component `comp` of detail `det` (`None` when the detail has no
+    /// such component).
+    pub(super) fn of(
+        fam: &Family,
+        basis: &ResolvedBasis,
+        det: &Detail,
+        comp: Component,
+    ) -> Option<CycleDamageRule> {
+        let entry = det.detail.as_ref().and_then(|k| fam.entry(k));
+        let any = DetailHistory {
+            normal: Some(ComponentHistory::default()),
+            shear: Some(ComponentHistory::default()),
+        };
+        let mut found = Findings::default();
+        let setups = component_setups(fam, basis, det, entry, &any, &mut found);
+        let s = setups.iter().find(|s| s.comp == comp)?;
+        let cv = curves(fam, basis, s);
+        Some(CycleDamageRule {
+            case: s.case.clone(),
+            normal: comp == Component::Normal,
+            gamma_ff: basis.gamma_ff.value,
+            design: cv.design,
+        })
+    }
+}
+
+impl crate::histories::damage::CycleRule for CycleDamageRule {
+    fn segments(&self) -> usize {
+        self.design.slopes.len()
+    }
+
+    #[inline]
+    fn effect(
+        &self,
+        c: &crate::histories::rainflow::Cycle,
+    ) -> crate::histories::damage::CycleEffect {
+        // the mean-stress rule on the cycle's own σmax, σmin (EN 1993-1-9 7.2.1(1), IIW f(R));
+        // shear ranges count in full
+        let f = if self.normal {
+            mean_stress_factor(&self.case, Some(c.max), Some(c.min))
+        } else {
+            1.0
+        };
+        // Design range γFf·Δσ_eff (EN 1993-1-9 eq. (8.2) numerator)
+        let design_range = self.gamma_ff * f * c.range;
+        let (damage, segment) = match self.design.endurance(design_range) {
+            // Palmgren-Miner term nᵢ/Nᵢ of one cycle (EN 1993-1-9 A.6)
+            Some((n, seg)) => (c.count / n, Some(seg)),
+            None => (0.0, None),
+        };
+        crate::histories::damage::CycleEffect {
+            damage,
+            segment,
+            mean_rule_acted: (f - 1.0).abs() > 1e-15,
+        }
+    }
+}
+
 /// The characteristic and design curves of a component after size correction and γMf.
 struct Curves {
     corrected: f64,
@@ -238,7 +308,8 @@ fn block_results(
             Component::Normal => mean_stress_factor(s.case, b.max_mpa, b.min_mpa),
             Component::Shear => 1.0,
         };
-        if b.max_mpa.is_some() && (f - 1.0).abs() > 1e-15 {
+        // a cell summed cycle by cycle tells below whether the rule acted on its cycles
+        if b.max_mpa.is_some() && b.damage_per_year.is_none() && (f - 1.0).abs() > 1e-15 {
             acted = true;
         }
         let eff = f * b.range_mpa;
@@ -275,9 +346,11 @@ fn block_results(
             cycles_design_life: cycles_per_year * years,
             segment: None,
             endurance_cycles: None,
-            damage: 0.0,
+            // per year for now; over the design life in damage_sum
+            damage: b.damage_per_year.unwrap_or(f64::NAN),
         });
     }
+    acted |= s.history.exact.iter().any(|e| e.acted);
     (blocks, loads, acted, max_range)
 }
 
@@ -287,11 +360,40 @@ fn damage_sum(
     blocks: &mut [BlockResult],
     design: &SnCurve,
     ca_applied: bool,
+    exact: &[crate::histories::ExactDamage],
+    years: f64,
 ) -> (f64, f64, Vec<(f64, f64)>) {
     let mut damage = 0.0;
     let mut below = 0.0;
     let mut bands: Vec<(f64, f64)> = vec![(0.0, 0.0); design.slopes.len()];
+    // The cells of a series counted cycle by cycle: their damage is the sum over their
+    // own cycles (each at its own range and mean), and their cycles go to the bands
+    // each at its own design range.
+    for e in exact {
+        below += e.below * years;
+        for (a, &(n, d)) in bands.iter_mut().zip(&e.bands) {
+            a.0 += n * years;
+            if !ca_applied {
+                a.1 += d * years;
+            }
+        }
+    }
     for b in blocks.iter_mut() {
+        if !b.damage.is_nan() {
+            // damage per year summed cycle by cycle, over the design life
+            b.damage = if ca_applied { 0.0 } else { b.damage * years };
+            if b.damage > 0.0 {
+                // the equivalent endurance: n/N of the cell equals its cycles' damage
+                b.endurance_cycles = Some(b.cycles_design_life / b.damage);
+                b.segment = design
+                    .endurance(b.design_range_mpa)
+                    .map(|x| x.1)
+                    .or(Some(design.slopes.len()));
+            }
+            damage += b.damage;
+            continue;
+        }
+        b.damage = 0.0;
         match design.endurance(b.design_range_mpa) {
             Some((n, seg)) => {
                 b.segment = Some(seg);
@@ -497,7 +599,8 @@ pub(super) fn assess_component(
         Some(lim) => constant_amplitude && loads.iter().all(|(r, _)| *r <= lim),
         None => false,
     };
-    let (damage, below, bands) = damage_sum(&mut blocks, &cv.design, ca_applied);
+    let (damage, below, bands) =
+        damage_sum(&mut blocks, &cv.design, ca_applied, &s.history.exact, years);
     let sym = fam.range_symbol.get(s.comp);
     let knee_syms = knee_symbols(&cv.design);
     let damage_by_band = if lean {

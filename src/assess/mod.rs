@@ -337,6 +337,22 @@ fn assess_detail(
     }
 }
 
+/// The per-cycle damage rules of a project's details, for the streaming count of its
+/// series ([`crate::histories::build_with`]): the curve and corrections of each
+/// detail's component, as [`Engine`] assesses it.
+pub fn cycle_rules<'a>(
+    project: &'a Project,
+    fam: &'a Family,
+) -> impl Fn(usize, crate::catalogue::Component) -> Option<crate::histories::damage::SharedRule> + 'a
+{
+    let basis = resolve_basis(&project.file, fam);
+    move |i, comp| {
+        let det = project.file.details.get(i)?;
+        let rule = component::CycleDamageRule::of(fam, &basis, det, comp)?;
+        Some(std::sync::Arc::new(rule) as crate::histories::damage::SharedRule)
+    }
+}
+
 /// Cycles in engineering form, e.g. 7.50e5.
 pub fn fmt_cycles(n: f64) -> String {
     format!("{n:.3e}")

@@ -7,11 +7,10 @@
 
 use std::fs::File;
 
-use crate::histories::ingest::{run_blocks, BlockOut, ChannelCount, Fallback, Part, Source};
+use crate::histories::ingest::{run_blocks, BlockOut, ChannelCount, Fallback, Part, Source, Start};
 use crate::histories::series::{
     ColumnRef, CountOptions, SeriesError, SeriesSpec, MAX_SERIES_STRESS_MPA,
 };
-use crate::histories::spectrum::Spectrum;
 
 /// Largest `.npy` header accepted, bytes (NumPy writes a few hundred).
 pub const MAX_NPY_HEADER_BYTES: usize = 1 << 16;
@@ -277,7 +276,7 @@ impl Source for Job<'_> {
         self.layout.rows.div_ceil(self.rows_per_block)
     }
 
-    fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback> {
+    fn block(&self, k: u64, starts: &[Start]) -> Result<BlockOut, Fallback> {
         let l = self.layout;
         let r0 = k * self.rows_per_block;
         let r1 = (r0 + self.rows_per_block).min(l.rows);
@@ -411,6 +410,9 @@ pub fn count_binary(
         .iter()
         .map(|&c| ((c + 1).to_string(), c + 1))
         .collect();
-    run_blocks(spec, &job, &names, opts, 1, progress)?
-        .ok_or_else(|| bad(spec, "internal: a binary block asked for the text reader"))
+    Ok(run_blocks(spec, &job, &names, opts, 1, progress, &[])?
+        .ok_or_else(|| bad(spec, "internal: a binary block asked for the text reader"))?
+        .into_iter()
+        .map(|(c, _)| c)
+        .collect())
 }

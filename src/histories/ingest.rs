@@ -24,6 +24,7 @@ use std::fs::File;
 use rayon::prelude::*;
 
 use crate::files::csvlines::{parse_f64, parse_f64_prefix, CsvLines, LineError, Row};
+use crate::histories::damage::{add_cycle, DamageTally, SharedRule};
 use crate::histories::rainflow::{Cycle, RainflowCounter};
 use crate::histories::series::{
     cell_text, counted_series, resolve_column, Column, ColumnRef, CountOptions, CountedSeries,
@@ -65,6 +66,9 @@ pub struct ChannelCount {
     /// The count.
     pub counted: CountedSeries,
 }
+
+/// One channel's count with the damage tally of each of its rules.
+pub type RatedCount = (ChannelCount, Vec<DamageTally>);
 
 /// Samples per channel gathered before they go to the counter.
 const CHUNK: usize = 4096;
@@ -185,20 +189,33 @@ pub(crate) struct Part {
     /// Gate 0: the block's own count, its cycles in `spectrum`.
     counter: Option<RainflowCounter>,
     spectrum: Spectrum,
+    /// Gate 0: the damage of the block's own cycles, one tally per rule.
+    tallies: Vec<DamageTally>,
+    rules: Vec<SharedRule>,
     /// Gate > 0: the samples, counted in order afterwards.
     values: Vec<f64>,
     chunk: Vec<f64>,
 }
 
+/// What a block's part of one channel starts from: the spectrum and damage tallies
+/// at the widths reached so far, and the per-cycle damage rules.
+pub(crate) struct Start {
+    pub(crate) spectrum: Spectrum,
+    pub(crate) tallies: Vec<DamageTally>,
+    pub(crate) rules: Vec<SharedRule>,
+}
+
 impl Part {
-    pub(crate) fn new(start: &Spectrum) -> Part {
+    pub(crate) fn new(start: &Start) -> Part {
         Part {
             samples: 0,
             moments: Moments::default(),
             first: 0.0,
             first_move: 0.0,
             counter: None,
-            spectrum: start.empty_like(),
+            spectrum: start.spectrum.empty_like(),
+            tallies: start.tallies.iter().map(DamageTally::empty_like).collect(),
+            rules: start.rules.clone(),
             values: Vec::new(),
             chunk: Vec::with_capacity(CHUNK),
         }
@@ -240,7 +257,14 @@ impl Part {
                 .counter
                 .get_or_insert_with(|| RainflowCounter::part_from(first));
             let spectrum = &mut self.spectrum;
-            counter.push_slice(rest, &mut |c: Cycle| spectrum.add(&c));
+            if self.rules.is_empty() {
+                counter.push_slice(rest, &mut |c: Cycle| spectrum.add(&c));
+            } else {
+                let (tallies, rules) = (&mut self.tallies, &self.rules[..]);
+                counter.push_slice(rest, &mut |c: Cycle| {
+                    add_cycle(spectrum, tallies, rules, &c)
+                });
+            }
         }
         self.chunk.clear();
     }
@@ -279,7 +303,7 @@ pub(crate) trait Source: Sync {
     fn blocks(&self) -> u64;
     /// Block `k`, its spectra started from `starts` (one per channel); `Err` hands the
     /// whole record to the reference reader.
-    fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback>;
+    fn block(&self, k: u64, starts: &[Start]) -> Result<BlockOut, Fallback>;
     /// Bytes up to the end of block `k` and in all, for progress.
     fn done_bytes(&self, k: u64) -> (u64, u64);
 }
@@ -290,7 +314,7 @@ impl Source for Job<'_> {
         data.div_ceil(self.block_bytes)
     }
 
-    fn block(&self, k: u64, starts: &[Spectrum]) -> Result<BlockOut, Fallback> {
+    fn block(&self, k: u64, starts: &[Start]) -> Result<BlockOut, Fallback> {
         BLOCK_BUF.with(|b| self.block_in(k, starts, &mut b.borrow_mut()))
     }
 
@@ -301,12 +325,7 @@ impl Source for Job<'_> {
 }
 
 impl Job<'_> {
-    fn block_in(
-        &self,
-        k: u64,
-        starts: &[Spectrum],
-        buf: &mut Vec<u8>,
-    ) -> Result<BlockOut, Fallback> {
+    fn block_in(&self, k: u64, starts: &[Start], buf: &mut Vec<u8>) -> Result<BlockOut, Fallback> {
         let len = self.layout.file_len;
         let start = self.layout.data_start + k * self.block_bytes;
         let end = (start + self.block_bytes).min(len);
@@ -562,6 +581,8 @@ fn at_line(mut e: SeriesError, n: u64) -> SeriesError {
 struct Total {
     counter: RainflowCounter,
     spectrum: Spectrum,
+    tallies: Vec<DamageTally>,
+    rules: Vec<SharedRule>,
     moments: Moments,
     samples: u64,
 }
@@ -590,13 +611,32 @@ pub fn count_channels(
     ingest: Ingest,
     progress: &dyn Fn(u64, u64),
 ) -> Result<Vec<ChannelCount>, SeriesError> {
+    Ok(
+        count_channels_rated(spec, channels, opts, ingest, progress, &[])?
+            .into_iter()
+            .map(|(c, _)| c)
+            .collect(),
+    )
+}
+
+/// [`count_channels`], with the damage of every cycle summed by each of the rules
+/// given for a channel (`rules[i]` for channel `i`; missing entries have none): each
+/// channel's count with one [`DamageTally`] per rule, in order.
+pub fn count_channels_rated(
+    spec: &SeriesSpec,
+    channels: &Channels,
+    opts: &CountOptions,
+    ingest: Ingest,
+    progress: &dyn Fn(u64, u64),
+    rules: &[Vec<SharedRule>],
+) -> Result<Vec<RatedCount>, SeriesError> {
     let factor = check_request(spec, opts)?;
     let file = crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
         path: spec.path.clone(),
         source,
     })?;
     let Some(layout) = layout(spec, &file)? else {
-        return reference(spec, channels, opts);
+        return reference(spec, channels, opts, rules);
     };
     let refs: Vec<ColumnRef> = match channels {
         Channels::These(v) => v.clone(),
@@ -647,9 +687,9 @@ pub fn count_channels(
         .zip(&refs)
         .map(|(c, r)| (channel_name(&layout.headers, c.pos, r), c.pos + 1))
         .collect();
-    match run_blocks(spec, &job, &names, opts, layout.first_line, progress)? {
+    match run_blocks(spec, &job, &names, opts, layout.first_line, progress, rules)? {
         Some(v) => Ok(v),
-        None => reference(spec, channels, opts),
+        None => reference(spec, channels, opts, rules),
     }
 }
 
@@ -663,12 +703,20 @@ pub(crate) fn run_blocks(
     opts: &CountOptions,
     first_line: u64,
     progress: &dyn Fn(u64, u64),
-) -> Result<Option<Vec<ChannelCount>>, SeriesError> {
+    rules: &[Vec<SharedRule>],
+) -> Result<Option<Vec<RatedCount>>, SeriesError> {
     let mut totals = Vec::with_capacity(names.len());
-    for _ in names {
+    for i in 0..names.len() {
+        let spectrum = Spectrum::new(opts.bins)?;
+        let rules = rules.get(i).cloned().unwrap_or_default();
         totals.push(Total {
             counter: RainflowCounter::try_new(opts.gate_mpa)?,
-            spectrum: Spectrum::new(opts.bins)?,
+            tallies: rules
+                .iter()
+                .map(|r| DamageTally::new(&**r, &spectrum))
+                .collect(),
+            spectrum,
+            rules,
             moments: Moments::default(),
             samples: 0,
         });
@@ -679,7 +727,14 @@ pub(crate) fn run_blocks(
     let mut k = 0u64;
     while k < blocks {
         let k1 = (k + wave).min(blocks);
-        let starts: Vec<Spectrum> = totals.iter().map(|t| t.spectrum.empty_like()).collect();
+        let starts: Vec<Start> = totals
+            .iter()
+            .map(|t| Start {
+                spectrum: t.spectrum.empty_like(),
+                tallies: t.tallies.iter().map(DamageTally::empty_like).collect(),
+                rules: t.rules.clone(),
+            })
+            .collect();
         let outs: Vec<Result<BlockOut, Fallback>> = (k..k1)
             .into_par_iter()
             .map(|b| src.block(b, &starts))
@@ -698,13 +753,16 @@ pub(crate) fn run_blocks(
                 }
                 t.samples += p.samples;
                 t.moments.merge(&p.moments);
-                let spectrum = &mut t.spectrum;
-                let mut sink = |c: Cycle| spectrum.add(&c);
+                let (spectrum, tallies, rules) = (&mut t.spectrum, &mut t.tallies, &t.rules[..]);
+                let mut sink = |c: Cycle| add_cycle(spectrum, tallies, rules, &c);
                 match p.counter {
                     Some(c) => t.counter.append_part(c, p.first, p.first_move, &mut sink),
                     None => t.counter.push_slice(&p.values, &mut sink),
                 }
                 t.spectrum.merge(&p.spectrum)?;
+                for (a, b) in t.tallies.iter_mut().zip(&p.tallies) {
+                    a.merge(b)?;
+                }
             }
         }
         k = k1;
@@ -719,15 +777,21 @@ pub(crate) fn run_blocks(
                 samples: t.samples,
             });
         }
-        let mut spectrum = t.spectrum;
-        let stats = t
-            .counter
-            .finish(opts.mode, &mut |c: Cycle| spectrum.add(&c));
-        out.push(ChannelCount {
-            name: name.clone(),
-            position: *position,
-            counted: counted_series(stats, &spectrum, &t.moments),
+        let (mut spectrum, mut tallies) = (t.spectrum, t.tallies);
+        let stats = t.counter.finish(opts.mode, &mut |c: Cycle| {
+            add_cycle(&mut spectrum, &mut tallies, &t.rules, &c)
         });
+        for d in &mut tallies {
+            d.align(&spectrum)?;
+        }
+        out.push((
+            ChannelCount {
+                name: name.clone(),
+                position: *position,
+                counted: counted_series(stats, &spectrum, &t.moments),
+            },
+            tallies,
+        ));
     }
     Ok(Some(out))
 }
@@ -745,7 +809,8 @@ fn reference(
     spec: &SeriesSpec,
     channels: &Channels,
     opts: &CountOptions,
-) -> Result<Vec<ChannelCount>, SeriesError> {
+    rules: &[Vec<SharedRule>],
+) -> Result<Vec<RatedCount>, SeriesError> {
     let refs: Vec<ColumnRef> = match channels {
         Channels::These(v) => v.clone(),
         Channels::All => {
@@ -759,21 +824,29 @@ fn reference(
         Vec::new()
     };
     let mut out = Vec::new();
-    for r in refs {
+    for (i, r) in refs.into_iter().enumerate() {
         let s = SeriesSpec {
             column: r.clone(),
             ..spec.clone()
         };
-        let counted = crate::histories::series::count_series_reference(&s, opts)?;
+        let none = Vec::new();
+        let (counted, tallies) = crate::histories::series::count_series_reference_rated(
+            &s,
+            opts,
+            rules.get(i).unwrap_or(&none),
+        )?;
         let pos = match &r {
             ColumnRef::Index(i) => i - 1,
             ColumnRef::Name(n) => names.iter().position(|h| h == n.trim()).unwrap_or(0),
         };
-        out.push(ChannelCount {
-            name: channel_name(&names, pos, &r),
-            position: pos + 1,
-            counted,
-        });
+        out.push((
+            ChannelCount {
+                name: channel_name(&names, pos, &r),
+                position: pos + 1,
+                counted,
+            },
+            tallies,
+        ));
     }
     Ok(out)
 }

@@ -3,6 +3,7 @@
 //! cycles per year. The assessment reads only these spectra.
 
 pub mod binary;
+pub mod damage;
 pub mod ingest;
 pub mod rainflow;
 pub mod series;
@@ -33,6 +34,9 @@ pub struct SpectrumBlock {
     pub max_mpa: Option<f64>,
     pub min_mpa: Option<f64>,
     pub cycles_per_year: f64,
+    /// A cell of a counted series whose cycles' damage was summed cycle by cycle: that
+    /// damage per year (the block's range and mean are then the cell's, for display).
+    pub damage_per_year: Option<f64>,
 }
 
 impl SpectrumBlock {
@@ -49,6 +53,36 @@ impl SpectrumBlock {
 pub struct ComponentHistory {
     pub blocks: Vec<SpectrumBlock>,
     pub counted: Vec<CountedRecord>,
+    /// Per-cycle sums of the counted series (the blocks with `damage_per_year`), per year.
+    pub exact: Vec<ExactDamage>,
+}
+
+/// The damage of a counted series on one detail, summed over every cycle at its own
+/// range and mean (see [`damage`]): per pass of the record, or per year once scaled.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ExactDamage {
+    /// Damage of each cell of the record's range-mean matrix, in its order.
+    pub cells: Vec<f64>,
+    /// Σ damage.
+    pub damage: f64,
+    /// Per curve segment: (cycles, damage).
+    pub bands: Vec<(f64, f64)>,
+    /// Cycles below the cut-off.
+    pub below: f64,
+    /// The mean-stress rule changed the range of some cycle.
+    pub acted: bool,
+}
+
+impl ExactDamage {
+    fn scaled(&self, k: f64) -> ExactDamage {
+        ExactDamage {
+            cells: self.cells.iter().map(|d| d * k).collect(),
+            damage: self.damage * k,
+            bands: self.bands.iter().map(|&(n, d)| (n * k, d * k)).collect(),
+            below: self.below * k,
+            acted: self.acted,
+        }
+    }
 }
 
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -63,8 +97,9 @@ pub struct DetailHistory {
 /// spectrum at once.
 #[derive(Debug, Clone, Default)]
 pub struct ProjectHistories {
-    /// Counted series by (detail index, component, loading index).
-    records: HashMap<(usize, Component, usize), CountedRecord>,
+    /// Counted series by (detail index, component, loading index), with the damage
+    /// summed cycle by cycle when the count was given the detail's rule.
+    records: HashMap<(usize, Component, usize), (CountedRecord, Option<ExactDamage>)>,
     pub series_files: Vec<SeriesFileInfo>,
     /// The series files read, resolved (so that no output is written over one).
     pub series_paths: Vec<PathBuf>,
@@ -151,8 +186,10 @@ impl ProjectHistories {
                 let rec = table_history(project, ev, t, &mut h.blocks, records);
                 h.counted.extend(rec);
             }
-            if let Some(rec) = self.records.get(&(i, comp, k)) {
-                cell_blocks(ev, rec, &mut h.blocks);
+            if let Some((rec, exact)) = self.records.get(&(i, comp, k)) {
+                let exact = exact.as_ref().map(|e| e.scaled(rec.repeats_per_year));
+                cell_blocks(ev, rec, exact.as_ref(), &mut h.blocks);
+                h.exact.extend(exact);
                 if records {
                     h.counted.push(rec.clone());
                 }
@@ -183,16 +220,24 @@ fn given_blocks(ev: &LoadEvent, blocks: &[crate::input::Block], out: &mut Vec<Sp
             max_mpa: hi,
             min_mpa: lo,
             cycles_per_year: b.cycles * per_year,
+            damage_per_year: None,
         });
     }
 }
 
-/// The cells of a counted series' range-mean matrix as blocks.
-fn cell_blocks(ev: &LoadEvent, rec: &CountedRecord, out: &mut Vec<SpectrumBlock>) {
+/// The cells of a counted series' range-mean matrix as blocks; with `exact` (per
+/// year), each block carries the damage summed over its own cycles.
+fn cell_blocks(
+    ev: &LoadEvent,
+    rec: &CountedRecord,
+    exact: Option<&ExactDamage>,
+    out: &mut Vec<SpectrumBlock>,
+) {
     let name: Arc<str> = ev.event.as_str().into();
-    for cell in &rec.matrix {
+    for (j, cell) in rec.matrix.iter().enumerate() {
         // Each cell is one block: its largest range and weighted mean, so every
-        // counted cycle is represented at or above its own range.
+        // counted cycle is represented at or above its own range (without `exact`,
+        // the block's damage is that of the cell's cycles all at that range).
         let r = cell.max_range_mpa;
         if r <= 0.0 {
             continue;
@@ -204,6 +249,7 @@ fn cell_blocks(ev: &LoadEvent, rec: &CountedRecord, out: &mut Vec<SpectrumBlock>
             max_mpa: Some(cell.mean_mpa + 0.5 * r),
             min_mpa: Some(cell.mean_mpa - 0.5 * r),
             cycles_per_year: cell.cycles * rec.repeats_per_year,
+            damage_per_year: exact.map(|e| e.cells.get(j).copied().unwrap_or(0.0)),
         });
     }
 }
@@ -214,10 +260,43 @@ pub const DEFAULT_SERIES_BINS: u32 = 64;
 pub const DEFAULT_MEAN_BINS: u32 = 16;
 
 /// Count the series files of a project, once each however many details refer to the
-/// same file, column and counting options.
+/// same file (several columns of one file are counted in one pass over it); without
+/// per-cycle rules each counted cell enters the damage sum at its largest range.
 pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
-    let mut st = State::default();
-    let mut out = ProjectHistories::default();
+    build_with(project, &|_, _| None)
+}
+
+/// Which per-cycle damage rule a series event of (detail index, component) is counted
+/// with; `None` leaves that event to the cells of its range-mean matrix.
+pub type RuleFor<'a> = dyn Fn(usize, Component) -> Option<damage::SharedRule> + 'a;
+
+/// One series event of the project file.
+struct Request<'p> {
+    detail: usize,
+    comp: Component,
+    loading: usize,
+    sp: YamlPath,
+    ev: &'p LoadEvent,
+    s: &'p SeriesInput,
+    rule: Option<damage::SharedRule>,
+}
+
+/// Series events that share a file and its reading and counting options.
+struct Group {
+    spec: SeriesSpec,
+    opts: CountOptions,
+    path: PathBuf,
+    /// Distinct columns, in order of first use.
+    columns: Vec<ColumnSelector>,
+    /// Requests (indices) of each column.
+    users: Vec<Vec<usize>>,
+}
+
+/// [`build`], the damage of each series event summed over every counted cycle at its
+/// own range and mean by the rule `rules` gives for its detail and component, in the
+/// streaming count (EN 1993-1-9 A.6 applied cycle by cycle).
+pub fn build_with(project: &Project, rules: &RuleFor) -> Result<ProjectHistories, Error> {
+    let mut reqs: Vec<Request> = Vec::new();
     for (i, d) in project.file.details.iter().enumerate() {
         for (comp, input) in [(Component::Normal, &d.normal), (Component::Shear, &d.shear)] {
             let Some(c) = input else { continue };
@@ -230,38 +309,205 @@ pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
                     .key("loading")
                     .index(k)
                     .key("series");
-                let rec = counted(project, ev, s, &sp, &mut st)?;
-                if let Some(message) = gate_note(&rec) {
-                    st.notes.push(HistoryNote {
-                        detail: i,
-                        detail_id: d.id.clone(),
-                        component: comp.as_str(),
-                        code: GATE_REMOVES_ALL,
-                        message,
-                    });
-                }
-                let most = rec
-                    .matrix
-                    .iter()
-                    .map(|c| c.cycles * rec.repeats_per_year)
-                    .fold(0.0, f64::max);
-                if most.is_nan() || most > MAX_CYCLES_PER_YEAR {
-                    return Err(InputError::new(
-                        InputErrorKind::OutOfRange,
-                        locate_at(project, &sp),
-                        format!(
-                            "{sp}: the record repeated {} times a year gives {} cycles a year in one spectrum cell, more than the {} that any structure sees",
-                            crate::files::short_num(rec.repeats_per_year),
-                            crate::files::short_num(most),
-                            crate::files::short_num(MAX_CYCLES_PER_YEAR)
-                        ),
-                    )
-                    .hint("check `per_year`, or `record_hours` and `hours_per_year`, of this event")
-                    .into());
-                }
-                out.records.insert((i, comp, k), rec);
+                reqs.push(Request {
+                    detail: i,
+                    comp,
+                    loading: k,
+                    sp,
+                    ev,
+                    s,
+                    rule: rules(i, comp),
+                });
             }
         }
+    }
+    // group the events by file and options (the column aside)
+    let mut groups: Vec<Group> = Vec::new();
+    let mut by_key: HashMap<String, usize> = HashMap::new();
+    for (q, r) in reqs.iter().enumerate() {
+        let s = r.s;
+        let loc = || locate_at(project, &r.sp.key("file"));
+        let path = resolve_series_path(&project.dir, &s.file, s.allow_outside_project, &loc)?;
+        let key = format!(
+            "{}|{}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}",
+            path.display(),
+            s.header,
+            s.unit,
+            s.modulus_mpa,
+            s.scale,
+            s.gate_mpa,
+            s.residue,
+            s.bin_width_mpa,
+            s.bins,
+            s.mean_bins
+        );
+        let g = *by_key.entry(key).or_insert_with(|| {
+            let (spec, opts) = series_request(&path, s);
+            groups.push(Group {
+                spec,
+                opts,
+                path: path.clone(),
+                columns: Vec::new(),
+                users: Vec::new(),
+            });
+            groups.len() - 1
+        });
+        let g = &mut groups[g];
+        match g.columns.iter().position(|c| *c == s.column) {
+            Some(j) => g.users[j].push(q),
+            None => {
+                g.columns.push(s.column.clone());
+                g.users.push(vec![q]);
+            }
+        }
+    }
+    let mut st = State::default();
+    let mut out = ProjectHistories::default();
+    // per request: the count of its column and the tally of its rule
+    let mut done: Vec<Option<(crate::histories::series::CountedSeries, Option<ExactDamage>)>> =
+        (0..reqs.len()).map(|_| None).collect();
+    let mut failed: Option<(usize, crate::histories::series::SeriesError)> = None;
+    for g in &groups {
+        match count_group(g, &reqs, &g.columns, &g.users) {
+            Ok(per) => {
+                for (q, v) in per {
+                    done[q] = Some(v);
+                }
+            }
+            Err(_) => {
+                // find which column fails (and count the others) one column at a time
+                for (col, users) in g.columns.iter().zip(&g.users) {
+                    match count_group(
+                        g,
+                        &reqs,
+                        std::slice::from_ref(col),
+                        std::slice::from_ref(users),
+                    ) {
+                        Ok(per) => {
+                            for (q, v) in per {
+                                done[q] = Some(v);
+                            }
+                        }
+                        Err(e) => {
+                            let q = users[0];
+                            if failed.as_ref().is_none_or(|(f, _)| q < *f) {
+                                failed = Some((q, e));
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+    if let Some((q, e)) = failed {
+        let r = &reqs[q];
+        let loc = locate_at(project, &r.sp.key("file"));
+        return Err(InputError::new(InputErrorKind::Series, loc, e.to_string())
+            .hint(series_hint(&e))
+            .into());
+    }
+    for g in &groups {
+        if !st.paths.contains(&g.path) {
+            let first = &reqs[g.users[0][0]];
+            let digest = crate::files::file_sha256(&g.path).map_err(|e| {
+                InputError::new(
+                    InputErrorKind::Io,
+                    locate_at(project, &first.sp.key("file")),
+                    format!("cannot read `{}`: {e}", first.s.file),
+                )
+            })?;
+            st.paths.push(g.path.clone());
+            for u in g.users.iter().flatten() {
+                let s = reqs[*u].s;
+                st.files.entry(s.file.clone()).or_insert(SeriesFileInfo {
+                    file: s.file.clone(),
+                    sha256: digest.0.clone(),
+                    bytes: digest.1,
+                });
+            }
+        } else {
+            for u in g.users.iter().flatten() {
+                let s = reqs[*u].s;
+                if !st.files.contains_key(&s.file) {
+                    let digest = crate::files::file_sha256(&g.path).map_err(|e| {
+                        InputError::new(
+                            InputErrorKind::Io,
+                            locate_at(project, &reqs[*u].sp.key("file")),
+                            format!("cannot read `{}`: {e}", s.file),
+                        )
+                    })?;
+                    st.files.insert(
+                        s.file.clone(),
+                        SeriesFileInfo {
+                            file: s.file.clone(),
+                            sha256: digest.0,
+                            bytes: digest.1,
+                        },
+                    );
+                }
+            }
+        }
+    }
+    for (q, r) in reqs.iter().enumerate() {
+        let Some((cs, exact)) = done[q].take() else {
+            return Err(Error::Internal("a series event was not counted".into()));
+        };
+        let s = r.s;
+        let repeats_per_year = match (s.record_hours, s.hours_per_year) {
+            // record repeats per year = operating hours per year / record duration
+            (Some(rec), Some(per)) => per / rec,
+            _ => r.ev.per_year.unwrap_or(1.0),
+        };
+        let (_, opts) = series_request(Path::new(""), s);
+        let mut rec = counted_record(
+            cs,
+            RecordLabels {
+                event: r.ev.event.clone(),
+                file: s.file.clone(),
+                column: match &s.column {
+                    ColumnSelector::Index(i) => format!("column {i}"),
+                    ColumnSelector::Name(n) => n.clone(),
+                },
+                unit: s.unit,
+                scale: s.scale.unwrap_or(1.0),
+                modulus_mpa: s.modulus_mpa,
+                gate_mpa: opts.gate_mpa,
+                mode: opts.mode,
+                repeats_per_year,
+            },
+        );
+        rec.per_cycle = exact.is_some();
+        if let Some(message) = gate_note(&rec) {
+            st.notes.push(HistoryNote {
+                detail: r.detail,
+                detail_id: project.file.details[r.detail].id.clone(),
+                component: r.comp.as_str(),
+                code: GATE_REMOVES_ALL,
+                message,
+            });
+        }
+        let most = rec
+            .matrix
+            .iter()
+            .map(|c| c.cycles * rec.repeats_per_year)
+            .fold(0.0, f64::max);
+        if most.is_nan() || most > MAX_CYCLES_PER_YEAR {
+            let sp = &r.sp;
+            return Err(InputError::new(
+                InputErrorKind::OutOfRange,
+                locate_at(project, sp),
+                format!(
+                    "{sp}: the record repeated {} times a year gives {} cycles a year in one spectrum cell, more than the {} that any structure sees",
+                    crate::files::short_num(rec.repeats_per_year),
+                    crate::files::short_num(most),
+                    crate::files::short_num(MAX_CYCLES_PER_YEAR)
+                ),
+            )
+            .hint("check `per_year`, or `record_hours` and `hours_per_year`, of this event")
+            .into());
+        }
+        out.records
+            .insert((r.detail, r.comp, r.loading), (rec, exact));
     }
     out.series_files = st.files.into_values().collect();
     out.series_paths = st.paths;
@@ -269,10 +515,100 @@ pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
     Ok(out)
 }
 
+/// Count `columns` of a group's file in one pass, each with the rules of its users;
+/// returns (request, its count and exact damage) for every user.
+#[allow(clippy::type_complexity)]
+fn count_group(
+    g: &Group,
+    reqs: &[Request],
+    columns: &[ColumnSelector],
+    users: &[Vec<usize>],
+) -> Result<
+    Vec<(
+        usize,
+        (crate::histories::series::CountedSeries, Option<ExactDamage>),
+    )>,
+    crate::histories::series::SeriesError,
+> {
+    use crate::histories::ingest::{count_channels_rated, Channels, Ingest};
+    let refs: Vec<ColumnRef> = columns.iter().map(column_ref).collect();
+    let rules: Vec<Vec<damage::SharedRule>> = users
+        .iter()
+        .map(|us| us.iter().filter_map(|&q| reqs[q].rule.clone()).collect())
+        .collect();
+    let counts = count_channels_rated(
+        &g.spec,
+        &Channels::These(refs),
+        &g.opts,
+        Ingest::default(),
+        &|_, _| {},
+        &rules,
+    )?;
+    let mut out = Vec::new();
+    for ((cc, tallies), us) in counts.into_iter().zip(users) {
+        let mut tallies = tallies.into_iter();
+        for &q in us {
+            let exact = reqs[q]
+                .rule
+                .as_ref()
+                .and_then(|_| tallies.next())
+                .map(|t| ExactDamage {
+                    cells: t.cell_damage(&cc.counted.matrix),
+                    damage: t.damage,
+                    bands: t.bands.clone(),
+                    below: t.below,
+                    acted: t.acted,
+                });
+            out.push((q, (cc.counted.clone(), exact)));
+        }
+    }
+    Ok(out)
+}
+
+fn column_ref(c: &ColumnSelector) -> ColumnRef {
+    match c {
+        ColumnSelector::Index(i) => ColumnRef::Index(*i),
+        ColumnSelector::Name(n) => ColumnRef::Name(n.clone()),
+    }
+}
+
+/// The reading and counting options of a series event.
+fn series_request(path: &Path, s: &SeriesInput) -> (SeriesSpec, CountOptions) {
+    let spec = SeriesSpec {
+        path: path.to_path_buf(),
+        column: column_ref(&s.column),
+        has_header: s.header,
+        unit: match s.unit {
+            SeriesUnitInput::Mpa => SeriesUnit::Mpa,
+            SeriesUnitInput::Microstrain => SeriesUnit::Microstrain {
+                modulus_mpa: s.modulus_mpa.unwrap_or(0.0),
+            },
+        },
+        scale: s.scale.unwrap_or(1.0),
+    };
+    let mode = match s.residue.unwrap_or(ResidueInput::Repeated) {
+        ResidueInput::Repeated => crate::histories::rainflow::ResidueMode::Repeated,
+        ResidueInput::HalfCycles => crate::histories::rainflow::ResidueMode::HalfCycles,
+    };
+    let range = match (s.bin_width_mpa, s.bins) {
+        (Some(w), _) => BinRule::Width(w),
+        (None, Some(n)) => BinRule::MaxBins(n as usize),
+        (None, None) => BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
+    };
+    let opts = CountOptions {
+        gate_mpa: s.gate_mpa.unwrap_or(0.0),
+        mode,
+        bins: SpectrumSpec {
+            range,
+            mean: BinRule::MaxBins(s.mean_bins.unwrap_or(DEFAULT_MEAN_BINS) as usize),
+        },
+    };
+    (spec, opts)
+}
+
 /// What is gathered while the series are counted.
 #[derive(Default)]
 struct State {
-    cache: BTreeMap<String, CountedRecord>,
     files: BTreeMap<String, SeriesFileInfo>,
     paths: Vec<PathBuf>,
     notes: Vec<HistoryNote>,
@@ -318,6 +654,7 @@ fn table_history(
                 max_mpa: Some(c.max),
                 min_mpa: Some(c.min),
                 cycles_per_year: c.count * per_year,
+                damage_per_year: None,
             });
         }
     });
@@ -406,112 +743,6 @@ fn locate_at(project: &Project, p: &YamlPath) -> Location {
         Some((l, c)) => Location::at(&project.path, l, c),
         None => Location::file(&project.path),
     }
-}
-
-fn counted(
-    project: &Project,
-    ev: &LoadEvent,
-    s: &SeriesInput,
-    sp: &YamlPath,
-    st: &mut State,
-) -> Result<CountedRecord, Error> {
-    let loc = || locate_at(project, &sp.key("file"));
-    let path = resolve_series_path(&project.dir, &s.file, s.allow_outside_project, &loc)?;
-    let repeats_per_year = match (s.record_hours, s.hours_per_year) {
-        // record repeats per year = operating hours per year / record duration
-        (Some(rec), Some(per)) => per / rec,
-        _ => ev.per_year.unwrap_or(1.0),
-    };
-    let key = format!(
-        "{}|{:?}|{}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{:?}",
-        path.display(),
-        s.column,
-        s.header,
-        s.unit,
-        s.modulus_mpa,
-        s.scale,
-        s.gate_mpa,
-        s.residue,
-        s.bin_width_mpa,
-        s.bins,
-        s.mean_bins
-    );
-    if let Some(rec) = st.cache.get(&key) {
-        let mut r = rec.clone();
-        r.event = ev.event.clone();
-        r.repeats_per_year = repeats_per_year;
-        return Ok(r);
-    }
-    let spec = SeriesSpec {
-        path: path.clone(),
-        column: match &s.column {
-            ColumnSelector::Index(i) => ColumnRef::Index(*i),
-            ColumnSelector::Name(n) => ColumnRef::Name(n.clone()),
-        },
-        has_header: s.header,
-        unit: match s.unit {
-            SeriesUnitInput::Mpa => SeriesUnit::Mpa,
-            SeriesUnitInput::Microstrain => SeriesUnit::Microstrain {
-                modulus_mpa: s.modulus_mpa.unwrap_or(0.0),
-            },
-        },
-        scale: s.scale.unwrap_or(1.0),
-    };
-    let mode = match s.residue.unwrap_or(ResidueInput::Repeated) {
-        ResidueInput::Repeated => crate::histories::rainflow::ResidueMode::Repeated,
-        ResidueInput::HalfCycles => crate::histories::rainflow::ResidueMode::HalfCycles,
-    };
-    let range = match (s.bin_width_mpa, s.bins) {
-        (Some(w), _) => BinRule::Width(w),
-        (None, Some(n)) => BinRule::MaxBins(n as usize),
-        (None, None) => BinRule::MaxBins(DEFAULT_SERIES_BINS as usize),
-    };
-    let opts = CountOptions {
-        gate_mpa: s.gate_mpa.unwrap_or(0.0),
-        mode,
-        bins: SpectrumSpec {
-            range,
-            mean: BinRule::MaxBins(s.mean_bins.unwrap_or(DEFAULT_MEAN_BINS) as usize),
-        },
-    };
-    let gate = opts.gate_mpa;
-    let cs = crate::histories::series::count_series(&spec, &opts).map_err(|e| {
-        InputError::new(InputErrorKind::Series, loc(), e.to_string()).hint(series_hint(&e))
-    })?;
-    let digest = crate::files::file_sha256(&path).map_err(|e| {
-        InputError::new(
-            InputErrorKind::Io,
-            loc(),
-            format!("cannot read `{}`: {e}", s.file),
-        )
-    })?;
-    if !st.paths.contains(&path) {
-        st.paths.push(path.clone());
-    }
-    st.files.entry(s.file.clone()).or_insert(SeriesFileInfo {
-        file: s.file.clone(),
-        sha256: digest.0,
-        bytes: digest.1,
-    });
-    let rec = counted_record(
-        cs,
-        RecordLabels {
-            event: ev.event.clone(),
-            file: s.file.clone(),
-            column: match &s.column {
-                ColumnSelector::Index(i) => format!("column {i}"),
-                ColumnSelector::Name(n) => n.clone(),
-            },
-            unit: s.unit,
-            scale: s.scale.unwrap_or(1.0),
-            modulus_mpa: s.modulus_mpa,
-            gate_mpa: gate,
-            mode,
-            repeats_per_year,
-        },
-    );
-    st.cache.insert(key, rec.clone());
-    Ok(rec)
 }
 
 /// How a counted record is described in the results.

@@ -5,6 +5,7 @@
 //! chunks, so a file of any length is counted in bounded memory.
 
 use crate::files::text::{escape_controls, short_num, CLIP_CHARS};
+use crate::histories::damage::{add_cycle, DamageTally, SharedRule};
 use crate::histories::rainflow::{CountStats, Cycle, GateError, RainflowCounter, ResidueMode};
 use crate::histories::spectrum::{MatrixCell, RangeBin, Spectrum, SpectrumError, SpectrumSpec};
 use serde::Serialize;
@@ -803,10 +804,23 @@ pub fn count_series_reference(
     spec: &SeriesSpec,
     opts: &CountOptions,
 ) -> Result<CountedSeries, SeriesError> {
+    Ok(count_series_reference_rated(spec, opts, &[])?.0)
+}
+
+/// [`count_series_reference`], with the damage of every cycle summed by each rule.
+pub fn count_series_reference_rated(
+    spec: &SeriesSpec,
+    opts: &CountOptions,
+    rules: &[SharedRule],
+) -> Result<(CountedSeries, Vec<DamageTally>), SeriesError> {
     let mut spectrum = Spectrum::new(opts.bins)?;
+    let mut tallies: Vec<DamageTally> = rules
+        .iter()
+        .map(|r| DamageTally::new(&**r, &spectrum))
+        .collect();
     let mut counter = RainflowCounter::try_new(opts.gate_mpa)?;
     let mut moments = Moments::default();
-    let mut sink = |c: Cycle| spectrum.add(&c);
+    let mut sink = |c: Cycle| add_cycle(&mut spectrum, &mut tallies, rules, &c);
     stream_series(spec, |xs| {
         for &x in xs {
             moments.add(x);
@@ -814,7 +828,10 @@ pub fn count_series_reference(
         counter.push_slice(xs, &mut sink);
     })?;
     let stats = counter.finish(opts.mode, &mut sink);
-    Ok(counted_series(stats, &spectrum, &moments))
+    for d in &mut tallies {
+        d.align(&spectrum)?;
+    }
+    Ok((counted_series(stats, &spectrum, &moments), tallies))
 }
 
 /// The counted series from the counter's totals, the spectrum and the moments.

@@ -1,0 +1,150 @@
+//! Damage of every counted cycle, summed in the streaming count.
+//!
+//! The assessment stage knows a detail's design curve and mean-stress rule; it hands
+//! the count a [`CycleRule`] that turns one cycle (its own range, maximum and minimum)
+//! into its damage. The count adds each cycle's damage to a [`DamageTally`]: the total,
+//! the damage and cycles per curve segment, the cycles below the cut-off, and a copy of
+//! the range-mean matrix whose cells hold the damage of their cycles (so each matrix
+//! cell, shown as a block, carries the exact sum over its own cycles). Tallies add up
+//! like spectra, so the parts of a parallel count are summed and the cycles that close
+//! across parts (the seam and the residue) are added when the parts are merged.
+
+use crate::histories::rainflow::Cycle;
+use crate::histories::spectrum::{MatrixCell, Spectrum, SpectrumError};
+use std::collections::HashMap;
+use std::fmt::Debug;
+use std::sync::Arc;
+
+/// What one cycle does on a detail's design curve.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CycleEffect {
+    /// Damage of the cycle, its count (1 or 0.5) included.
+    pub damage: f64,
+    /// 1-based curve segment of its design range; `None` below the cut-off.
+    pub segment: Option<usize>,
+    /// The mean-stress rule changed its range.
+    pub mean_rule_acted: bool,
+}
+
+/// The damage of one cycle on one detail (its curve and corrections).
+pub trait CycleRule: Send + Sync + Debug {
+    /// Segments of the design curve.
+    fn segments(&self) -> usize;
+    /// The effect of one cycle; called only for cycles of range > 0.
+    fn effect(&self, c: &Cycle) -> CycleEffect;
+}
+
+/// A rule shared by the threads of a count.
+pub type SharedRule = Arc<dyn CycleRule>;
+
+/// The damage of the cycles of one count on one detail (one pass of the record).
+#[derive(Clone, Debug)]
+pub struct DamageTally {
+    /// The range-mean matrix of the cycles with each cycle weighted by its damage.
+    pub cells: Spectrum,
+    /// Σ damage of every cycle.
+    pub damage: f64,
+    /// Per curve segment: (cycles, damage).
+    pub bands: Vec<(f64, f64)>,
+    /// Cycles whose design range lies below the cut-off.
+    pub below: f64,
+    /// The mean-stress rule changed the range of some cycle.
+    pub acted: bool,
+}
+
+impl DamageTally {
+    /// Empty tally for `rule`, its cells binned like `start` (at its current widths).
+    pub fn new(rule: &dyn CycleRule, start: &Spectrum) -> DamageTally {
+        DamageTally {
+            cells: start.empty_like(),
+            damage: 0.0,
+            bands: vec![(0.0, 0.0); rule.segments()],
+            below: 0.0,
+            acted: false,
+        }
+    }
+
+    /// An empty tally like this one (cells at its current widths).
+    pub fn empty_like(&self) -> DamageTally {
+        DamageTally {
+            cells: self.cells.empty_like(),
+            damage: 0.0,
+            bands: vec![(0.0, 0.0); self.bands.len()],
+            below: 0.0,
+            acted: false,
+        }
+    }
+
+    /// Add one cycle.
+    #[inline]
+    pub fn add(&mut self, rule: &dyn CycleRule, c: &Cycle) {
+        if c.range.is_nan() || c.range <= 0.0 {
+            // a cycle of no range does no damage (common practice)
+            return;
+        }
+        let e = rule.effect(c);
+        // Palmgren-Miner: D = Σ nᵢ/Nᵢ over every cycle (EN 1993-1-9 A.6, common practice)
+        self.damage += e.damage;
+        self.acted |= e.mean_rule_acted;
+        match e.segment {
+            Some(s) if s >= 1 && s <= self.bands.len() => {
+                self.bands[s - 1].0 += c.count;
+                self.bands[s - 1].1 += e.damage;
+            }
+            _ => self.below += c.count,
+        }
+        self.cells.add_block(c.range, c.mean, e.damage);
+    }
+
+    /// Add the tally of cycles counted elsewhere (another part of the record).
+    pub fn merge(&mut self, o: &DamageTally) -> Result<(), SpectrumError> {
+        self.cells.merge(&o.cells)?;
+        self.damage += o.damage;
+        for (a, b) in self.bands.iter_mut().zip(&o.bands) {
+            a.0 += b.0;
+            a.1 += b.1;
+        }
+        self.below += o.below;
+        self.acted |= o.acted;
+        Ok(())
+    }
+
+    /// Bring the damage cells to the widths of the count's own spectrum `counted` (the
+    /// tally saw the same cycles, so its widths are at most those).
+    pub fn align(&mut self, counted: &Spectrum) -> Result<(), SpectrumError> {
+        let mut a = counted.empty_like();
+        a.merge(&self.cells)?;
+        self.cells = a;
+        Ok(())
+    }
+
+    /// The damage of each cell of `matrix` (the count's range-mean matrix, with the
+    /// same widths as these cells), in its order.
+    pub fn cell_damage(&self, matrix: &[MatrixCell]) -> Vec<f64> {
+        let key = |c: &MatrixCell| (c.range_lo_mpa.to_bits(), c.mean_lo_mpa.to_bits());
+        let by_cell: HashMap<(u64, u64), f64> = self
+            .cells
+            .matrix()
+            .iter()
+            .map(|c| (key(c), c.cycles))
+            .collect();
+        matrix
+            .iter()
+            .map(|c| by_cell.get(&key(c)).copied().unwrap_or(0.0))
+            .collect()
+    }
+}
+
+/// Each cycle into a spectrum and into the tally of every rule.
+#[inline(always)]
+pub(crate) fn add_cycle(
+    spectrum: &mut Spectrum,
+    tallies: &mut [DamageTally],
+    rules: &[SharedRule],
+    c: &Cycle,
+) {
+    spectrum.add(c);
+    for (t, r) in tallies.iter_mut().zip(rules) {
+        t.add(&**r, c);
+    }
+}
