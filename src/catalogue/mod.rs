@@ -1289,8 +1289,19 @@ mod tests {
                 .normal_category,
             Some(50.0)
         );
-        // no EN entry names a curve variant: EN has one normal-stress curve shape
-        assert!(en.catalogue.iter().all(|e| e.curve_variant.is_none()));
+        // only the Table 8.7 lattice joints name a curve variant: their own m = 5 curve
+        // (EN 1993-1-9 Table 8.7, from memory)
+        for e in &en.catalogue {
+            assert_eq!(
+                e.curve_variant.is_some(),
+                e.key.starts_with("lattice-"),
+                "{}",
+                e.key
+            );
+        }
+        let hj = &en.curves.normal.variants["hollow-joint"];
+        assert!(hj.entry_only);
+        assert!(hj.segments.iter().all(|s| s.slope_m == 5.0));
     }
 
     #[test]
@@ -1463,10 +1474,10 @@ mod tests {
                 "between 0 and 1, got 1.5",
             ),
             (
-                "    normal_category: 90\n    thickness_exponent: 0.2",
-                "    normal_category: 90\n    thickness_exponent: 1.2",
+                "    normal_category: 90\n    thickness_exponent: 0.2   # Table 8.3 details 5-7",
+                "    normal_category: 90\n    thickness_exponent: 1.2   # Table 8.3 details 5-7",
                 "1.2",
-                "catalogue[11].thickness_exponent",
+                "catalogue[28].thickness_exponent",
                 "thickness_exponent must lie between 0 and 1, got 1.2",
             ),
             (
@@ -1489,13 +1500,13 @@ mod tests {
                 "    normal_category: 160\n    mean_stress_case: non-welded\n    curve_variant: flat\n  - key: plate-machine",
                 "flat\n  - key: plate-machine",
                 "catalogue[0].curve_variant",
-                "curve_variant `flat` is not one of curves.normal.variants (none defined)",
+                "curve_variant `flat` is not one of curves.normal.variants (hollow-joint)",
             ),
             // ... on an entry that has a normal-stress category.
             (
-                "    shear_category: 100\n",
-                "    shear_category: 100\n    curve_variant: flat\n",
-                "flat\n    mean_stress_case: non-welded\n  # ---- Table 8.2",
+                "    shear_category: 100\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
+                "    shear_category: 100\n    curve_variant: flat\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
+                "flat\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
                 "catalogue[3].curve_variant",
                 "gives no normal_category",
             ),
