@@ -13,6 +13,8 @@ use serde::{Deserialize, Serialize};
 use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::locate::YamlPath;
 
+pub mod search;
+
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
     (
