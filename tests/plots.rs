@@ -270,6 +270,7 @@ fn component(
         },
         blocks,
         counted: Vec::new(),
+        crane_route: None,
     }
 }
 

@@ -23,7 +23,7 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) size: SizeCorrection,
     pub(super) case_key: String,
     pub(super) case: &'a MeanStressCase,
-    pub(super) history: &'a ComponentHistory,
+    pub(super) history: std::borrow::Cow<'a, ComponentHistory>,
     /// Constant or variable amplitude as stated in the project file.
     pub(super) amplitude: Option<Amplitude>,
     /// The curve variant in force: the catalogue entry's own (normal stress), else the
@@ -35,6 +35,8 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) environment: Option<String>,
     /// Stress concentration factor on the nominal stress (1 when none is given).
     pub(super) scf: f64,
+    /// The crane route in place of a spectrum (EN 1991-3 2.12).
+    pub(super) crane: Option<CraneRouteUsed>,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -131,6 +133,17 @@ pub(super) fn component_setups<'a>(
                 comp.as_str()
             ));
         }
+        let crane = ci
+            .crane
+            .as_ref()
+            .and_then(|cr| super::crane::route(fam, comp, cr));
+        let history = match &crane {
+            Some(c) => std::borrow::Cow::Owned(super::crane::history(fam, basis, c)),
+            None => std::borrow::Cow::Borrowed(h),
+        };
+        if let Some(c) = &crane {
+            found.notes.push(super::crane::note(fam, comp, c, basis));
+        }
         setups.push(ComponentSetup {
             comp,
             category,
@@ -139,7 +152,7 @@ pub(super) fn component_setups<'a>(
             size,
             case_key: case_key.clone(),
             case,
-            history: h,
+            history,
             amplitude: ci.amplitude,
             curve_variant,
             curve_from,
@@ -148,6 +161,7 @@ pub(super) fn component_setups<'a>(
                 .clone()
                 .or_else(|| basis.environment.clone()),
             scf: det.scf.unwrap_or(1.0),
+            crane,
         });
     }
     setups
@@ -172,7 +186,11 @@ fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
     // A published class replaces the category-relative segments (joint-classes/README.md,
     // `classes`): its own slopes and knees, through its own range at the reference cycles.
     let class = class_curve(fam, basis, s);
+    // The crane route's ΔσE,2 is checked on the first slope alone (EN 1993-1-9 eq. (8.2)
+    // at 2·10^6 cycles): one open segment, no knee and no cut-off.
+    let crane_segs = super::crane::segments(def);
     let segs = match &class {
+        _ if s.crane.is_some() => &crane_segs[..],
         Some(c) => &c.segments[..],
         None => fam
             .segments(s.comp, s.curve_variant.as_deref())
@@ -367,6 +385,12 @@ fn amplitude_of(
     loads: &[(f64, f64)],
     found: &mut Findings,
 ) -> (Amplitude, String) {
+    if s.crane.is_some() {
+        return (
+            Amplitude::Variable,
+            "EN 1991-3 crane route: ΔσE,2 stands for the variable loading of the design life at 2·10⁶ cycles".into(),
+        );
+    }
     let counted =
         !s.history.counted.is_empty() || s.history.blocks.iter().any(|b| b.origin != "given");
     let one_range = !loads.is_empty()
@@ -535,6 +559,7 @@ pub(super) fn assess_component(
             .as_ref()
             .is_some_and(|p| !p.is_empty());
     if s.comp == Component::Normal
+        && s.crane.is_none()
         && rule_can_act
         && s.history.blocks.iter().any(|b| b.max_mpa.is_none())
     {
@@ -546,7 +571,13 @@ pub(super) fn assess_component(
             ),
         );
     }
-    let (form, dlim, source) = if constant_amplitude {
+    let (form, dlim, source) = if let (Some(_), Some(route)) = (&s.crane, &fam.crane_route) {
+        (
+            basis.check_form,
+            basis.damage_limit.value,
+            text(lean, || route.check_source.clone()),
+        )
+    } else if constant_amplitude {
         let (f, d, s) = &basis.constant_amplitude;
         (*f, *d, text(lean, || s.clone()))
     } else {
@@ -648,6 +679,7 @@ pub(super) fn assess_component(
         } else {
             s.history.counted.clone()
         },
+        crane_route: s.crane.clone(),
     };
     let part = Part {
         comp: s.comp,

@@ -9,6 +9,7 @@
 mod basis;
 mod component;
 mod corrections;
+mod crane;
 pub mod curve;
 mod verify;
 

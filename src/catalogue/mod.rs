@@ -13,7 +13,10 @@ use serde::{Deserialize, Serialize};
 use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::locate::YamlPath;
 
+pub mod crane;
 pub mod search;
+
+pub use crane::{CraneLambda, CraneRoute};
 
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
@@ -59,6 +62,9 @@ pub struct Family {
     /// where the code publishes mean curves with their scatter (BS 7608).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub design_curve: Option<DesignCurveRule>,
+    /// A crane route (EN 1991-3 λ factors) offered to components without a spectrum.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crane_route: Option<CraneRoute>,
     pub catalogue: Vec<CatalogueEntry>,
     /// Where the family came from (embedded or a file); filled by the loader.
     #[serde(skip)]
@@ -605,6 +611,9 @@ impl Family {
             }
         }
         self.check_published()?;
+        if let Some(r) = &self.crane_route {
+            r.check(&root.key("crane_route"))?;
+        }
         let pf = root.key("partial_factors");
         positive(
             pf.key("gamma_ff").key("value"),

@@ -852,6 +852,10 @@ fn check_component(
             }
         }
     }
+    if let Some(cr) = &ci.crane {
+        check_crane(c, fam, ci, cr, cp);
+        return;
+    }
     if ci.amplitude == Some(Amplitude::Constant) {
         check_constant_amplitude(c, ci, cp);
     }
@@ -965,6 +969,72 @@ fn check_component(
         }
     }
 }
+
+/// The crane route (EN 1991-3 2.12): a family that offers it, a known stress-history
+/// class, Δσ(max) and φfat in bounds, and no loading or amplitude beside it.
+fn check_crane(
+    c: &mut Checker,
+    fam: &Family,
+    ci: &ComponentInput,
+    cr: &crate::input::CraneInput,
+    cp: &dyn Fn() -> YamlPath,
+) {
+    let kp = || cp().key("crane");
+    match &fam.crane_route {
+        None => c.push(
+            kp(),
+            InputErrorKind::UnknownOption,
+            format!("family `{}` offers no crane route", fam.id),
+            Some("the crane route (stress-history class, λ and φfat) belongs to the EN family (basis.family: en1993-1-9); give `loading:` blocks here".into()),
+        ),
+        Some(route) => c.option_name(
+            || kp().key("stress_history_class"),
+            "stress-history class",
+            &cr.stress_history_class,
+            route.classes.keys().cloned().collect(),
+        ),
+    }
+    c.positive_upto(
+        || kp().key("max_range_mpa"),
+        "max_range_mpa",
+        cr.max_range_mpa,
+        MAX_STRESS_MPA,
+        STRESS_WHY,
+    );
+    let phi = cr.phi_fat;
+    if !(phi.is_finite() && (1.0..=MAX_PHI_FAT).contains(&phi)) {
+        c.push(
+            kp().key("phi_fat"),
+            InputErrorKind::OutOfRange,
+            format!(
+                "phi_fat must lie between 1 and {MAX_PHI_FAT}, got {}",
+                short_num(phi)
+            ),
+            Some("φfat is the dynamic factor for fatigue of EN 1991-3 2.12.1, at least 1".into()),
+        );
+    }
+    if !ci.loading.is_empty() {
+        c.push(
+            cp().key("loading"),
+            InputErrorKind::InvalidValue,
+            "give either `loading:` or `crane:`, not both: the crane route replaces the spectrum"
+                .into(),
+            Some("remove `loading:` to use ΔσE,2 = λ·φfat·Δσ(max), or remove `crane:`".into()),
+        );
+    }
+    if ci.amplitude.is_some() {
+        c.push(
+            cp().key("amplitude"),
+            InputErrorKind::InvalidValue,
+            "`amplitude` does not apply to the crane route: ΔσE,2 is a damage-equivalent range of variable loading".into(),
+            Some("remove `amplitude:`".into()),
+        );
+    }
+}
+
+/// Largest dynamic factor φfat accepted (EN 1991-3 2.12.1 values lie near 1.0-1.3;
+/// a larger figure is a slip; common practice).
+pub const MAX_PHI_FAT: f64 = 3.0;
 
 /// Loading stated as constant amplitude must be blocks of one range: a counted record
 /// is variable amplitude by nature.

@@ -257,7 +257,26 @@ pub struct ComponentInput {
     /// every block is given in the file with one and the same range, else variable.
     #[serde(default)]
     pub amplitude: Option<Amplitude>,
+    #[serde(default)]
     pub loading: Vec<LoadEvent>,
+    /// The crane route in place of `loading` (families with a `crane_route`, EN):
+    /// ΔσE,2 = λ·φfat·Δσ(max).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crane: Option<CraneInput>,
+}
+
+/// A component loaded by a crane, given by the crane's stress-history class instead of
+/// a spectrum (EN 1991-3 2.12).
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct CraneInput {
+    /// Stress-history class S0 ... S9 of the crane (EN 1991-3 Table 2.11 / 2.12).
+    #[serde(deserialize_with = "text_stress_history_class")]
+    pub stress_history_class: String,
+    /// Stress range from the maximum crane load, MPa (Δσ(max) or Δτ(max)).
+    pub max_range_mpa: f64,
+    /// Dynamic factor for fatigue φfat (EN 1991-3 2.12.1).
+    pub phi_fat: f64,
 }
 
 /// Whether a component's loading is constant or variable amplitude.
@@ -450,6 +469,7 @@ required_texts! {
     text_material => "material",
     text_event => "event",
     text_file => "file",
+    text_stress_history_class => "stress_history_class",
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]

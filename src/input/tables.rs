@@ -472,6 +472,7 @@ impl<'a> Reader<'a> {
                 category: cells.category,
                 amplitude: cells.amplitude,
                 loading: Vec::new(),
+                crane: None,
             })
             .loading
     }
