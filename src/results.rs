@@ -418,6 +418,9 @@ pub struct ComponentResult {
     /// The crane route used in place of a spectrum (EN 1991-3 2.12), if any.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub crane_route: Option<CraneRouteUsed>,
+    /// The weld improvement applied to the normal-stress category, if any.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvement: Option<ImprovementUsed>,
 }
 
 /// A measured or simulated record counted by rainflow for one loading event.
@@ -505,4 +508,21 @@ pub struct CraneRouteUsed {
     pub equivalent_range_mpa: f64,
     pub rule: String,
     pub check_source: String,
+}
+
+/// A weld improvement applied to a component's category, with its working and source.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ImprovementUsed {
+    pub method: String,
+    pub name: String,
+    pub as_welded_category_mpa: f64,
+    pub improved_category_mpa: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub factor: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub class_steps: Option<u32>,
+    pub working: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub curve_variant: Option<String>,
+    pub source: String,
 }

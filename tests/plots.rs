@@ -271,6 +271,7 @@ fn component(
         blocks,
         counted: Vec::new(),
         crane_route: None,
+        improvement: None,
     }
 }
 

@@ -37,6 +37,8 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) scf: f64,
     /// The crane route in place of a spectrum (EN 1991-3 2.12).
     pub(super) crane: Option<CraneRouteUsed>,
+    /// The weld improvement in force on the normal-stress category.
+    pub(super) improvement: Option<ImprovementUsed>,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -63,6 +65,7 @@ pub(super) fn component_setups<'a>(
     det: &Detail,
     entry: Option<&CatalogueEntry>,
     hist: &'a DetailHistory,
+    fy: f64,
     found: &mut Findings,
 ) -> Vec<ComponentSetup<'a>> {
     let case_key = det
@@ -103,6 +106,17 @@ pub(super) fn component_setups<'a>(
             (None, Some(cat)) => (cat, "catalogue"),
             (None, None) => (f64::NAN, "missing"),
         };
+        // A weld improvement raises the as-welded normal-stress category (IIW 6.4).
+        let improvement = match comp {
+            Component::Normal => super::improvement::improved(fam, det, ci, category, fy),
+            Component::Shear => None,
+        };
+        let category = improvement
+            .as_ref()
+            .map_or(category, |i| i.improved_category_mpa);
+        if let Some(i) = &improvement {
+            found.notes.push(super::improvement::note(i));
+        }
         let size = size_correction(fam, det, entry, comp);
         // A catalogue entry's own curve replaces the project's normal-stress curve
         // (joint-classes/README.md, `curve_variant`).
@@ -110,9 +124,13 @@ pub(super) fn component_setups<'a>(
             Component::Normal => entry.and_then(|e| e.curve_variant.clone()),
             Component::Shear => None,
         };
-        let (curve_variant, curve_from) = match entry_variant {
-            Some(v) => (Some(v), "catalogue entry"),
-            None => (basis.variant.clone(), "project basis"),
+        let (curve_variant, curve_from) = match (
+            improvement.as_ref().and_then(|i| i.curve_variant.clone()),
+            entry_variant,
+        ) {
+            (Some(v), _) => (Some(v), "weld improvement"),
+            (None, Some(v)) => (Some(v), "catalogue entry"),
+            (None, None) => (basis.variant.clone(), "project basis"),
         };
         if comp == Component::Normal
             && entry.is_none()
@@ -162,6 +180,7 @@ pub(super) fn component_setups<'a>(
                 .or_else(|| basis.environment.clone()),
             scf: det.scf.unwrap_or(1.0),
             crane,
+            improvement,
         });
     }
     setups
@@ -680,6 +699,7 @@ pub(super) fn assess_component(
             s.history.counted.clone()
         },
         crane_route: s.crane.clone(),
+        improvement: s.improvement.clone(),
     };
     let part = Part {
         comp: s.comp,

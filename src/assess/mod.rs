@@ -11,6 +11,7 @@ mod component;
 mod corrections;
 mod crane;
 pub mod curve;
+mod improvement;
 mod verify;
 
 use crate::catalogue::Family;
@@ -281,7 +282,7 @@ fn assess_detail(
         .map(|m| m.fy_mpa)
         .unwrap_or(f64::NAN);
     let mut found = Findings::default();
-    let setups = component_setups(fam, basis, det, entry, hist, &mut found);
+    let setups = component_setups(fam, basis, det, entry, hist, fy, &mut found);
     let mut comps = Vec::with_capacity(setups.len());
     let mut parts = Vec::with_capacity(setups.len());
     let mut outside = false;

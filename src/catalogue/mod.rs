@@ -14,9 +14,11 @@ use crate::error::{InputError, InputErrorKind, Location};
 use crate::files::locate::YamlPath;
 
 pub mod crane;
+pub mod improvement;
 pub mod search;
 
 pub use crane::{CraneLambda, CraneRoute};
+pub use improvement::{Improvement, Improvements};
 
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
@@ -65,6 +67,9 @@ pub struct Family {
     /// A crane route (EN 1991-3 λ factors) offered to components without a spectrum.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub crane_route: Option<CraneRoute>,
+    /// Weld improvement methods (IIW) that a detail may name with `improvement:`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvements: Option<Improvements>,
     pub catalogue: Vec<CatalogueEntry>,
     /// Where the family came from (embedded or a file); filled by the loader.
     #[serde(skip)]
@@ -613,6 +618,9 @@ impl Family {
         self.check_published()?;
         if let Some(r) = &self.crane_route {
             r.check(&root.key("crane_route"))?;
+        }
+        if let Some(i) = &self.improvements {
+            i.check(self, &root.key("improvements"))?;
         }
         let pf = root.key("partial_factors");
         positive(
@@ -1487,7 +1495,7 @@ mod tests {
             (
                 "    normal_category: 90\n    thickness_exponent: 0.2   # Table 8.3 details 5-7",
                 "    normal_category: 90\n    thickness_exponent: 1.2   # Table 8.3 details 5-7",
-                "1.2",
+                "1.2   # Table 8.3 details 5-7",
                 "catalogue[28].thickness_exponent",
                 "thickness_exponent must lie between 0 and 1, got 1.2",
             ),
@@ -1541,7 +1549,7 @@ mod tests {
                 "    curve_variant: m4\n  - key: plate-machine-cut",
                 "m4",
                 "catalogue[0].curve_variant",
-                "curve_variant `m4` is not one of curves.normal.variants (m5, non-welded)",
+                "curve_variant `m4` is not one of curves.normal.variants (improved-m5, m5, non-welded)",
             ),
             (
                 "[[-1.0, 1.6], [0.5, 1.0]]",

@@ -199,6 +199,28 @@ fn family_listing(f: &Family, out: &mut String) {
             d.source
         ));
     }
+    if let Some(r) = &f.crane_route {
+        out.push_str(&format!(
+            "crane route (`crane:` in place of `loading:`): {} — {}\n  λ normal/shear by class: {}\n  ({})\n",
+            r.name,
+            r.rule,
+            r.classes
+                .iter()
+                .map(|(k, l)| format!("{k} {}/{}", short_num(l.normal), short_num(l.shear)))
+                .collect::<Vec<_>>()
+                .join(", "),
+            r.source
+        ));
+    }
+    if let Some(set) = &f.improvements {
+        out.push_str(&format!(
+            "weld improvements (`improvement:` on a detail; {} weld-toe detail types):\n",
+            set.applies_to.len()
+        ));
+        for (k, m) in &set.methods {
+            out.push_str(&format!("  {k:<18} {} [{}]\n", m.name, m.source));
+        }
+    }
     out.push_str("\nmean-stress cases:\n");
     for (k, c) in &f.mean_stress.cases {
         out.push_str(&format!("  {k:<18} {}\n", c.name));

@@ -761,6 +761,9 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 fam.environment_names(),
             );
         }
+        if let Some(name) = &det.improvement {
+            check_improvement(c, file, fam, det, entry, name, &p);
+        }
         if let Some(case) = &det.mean_stress_case {
             c.option_name(
                 || p().key("mean_stress_case"),
@@ -1028,6 +1031,105 @@ fn check_crane(
             InputErrorKind::InvalidValue,
             "`amplitude` does not apply to the crane route: ΔσE,2 is a damage-equivalent range of variable loading".into(),
             Some("remove `amplitude:`".into()),
+        );
+    }
+}
+
+/// A weld improvement: a family that gives it, a known method, a catalogue entry it
+/// applies to, a normal-stress component, and the method's limits met.
+fn check_improvement(
+    c: &mut Checker,
+    file: &ProjectFile,
+    fam: &Family,
+    det: &crate::input::Detail,
+    entry: Option<&crate::catalogue::CatalogueEntry>,
+    name: &str,
+    p: &dyn Fn() -> YamlPath,
+) {
+    let ip = || p().key("improvement");
+    let Some(set) = &fam.improvements else {
+        c.push(
+            ip(),
+            InputErrorKind::UnknownOption,
+            format!("family `{}` gives no weld improvement factors", fam.id),
+            Some("improvement factors (burr grinding, TIG dressing, peening, HFMI) are given by the IIW family; remove `improvement:` or assess with basis.family: iiw".into()),
+        );
+        return;
+    };
+    let Some(m) = set.methods.get(name) else {
+        c.option_name(
+            ip,
+            "improvement",
+            name,
+            set.methods.keys().cloned().collect(),
+        );
+        return;
+    };
+    let refuse = |c: &mut Checker, why: String, hint: String| {
+        c.push(
+            ip(),
+            InputErrorKind::InvalidValue,
+            format!(
+                "improvement `{name}` cannot be used on detail `{}`: {why}",
+                det.id
+            ),
+            Some(hint),
+        );
+    };
+    let Some(e) = entry else {
+        refuse(
+            c,
+            "it applies to catalogue detail types, and the detail names none".into(),
+            format!(
+                "give `detail:` with one of the types in `seamlife classes {}`",
+                fam.id
+            ),
+        );
+        return;
+    };
+    if !set.applies_to.contains(&e.key) {
+        refuse(
+            c,
+            format!(
+                "the family grants it for weld-toe details only, and `{}` is not one of them",
+                e.key
+            ),
+            format!(
+                "`seamlife classes {}` lists the detail types an improvement applies to",
+                fam.id
+            ),
+        );
+        return;
+    }
+    let Some(ci) = &det.normal else {
+        refuse(
+            c,
+            "it acts on the normal-stress category, and the detail has no `normal:` component"
+                .into(),
+            "add the normal-stress loading, or remove `improvement:`".into(),
+        );
+        return;
+    };
+    let Some(category) = ci.category.or(e.normal_category) else {
+        return;
+    };
+    let Some(fy) = file.materials.get(&det.material).map(|m| m.fy_mpa) else {
+        return;
+    };
+    if let Err(why) = m.gain(
+        &fam.curves.normal.categories_mpa,
+        category,
+        fy,
+        det.thickness_mm,
+        ci.stated_max_stress_ratio(),
+    ) {
+        refuse(
+            c,
+            why,
+            format!(
+                "{} ({}); remove `improvement:` to assess the weld as welded",
+                m.name, m.source
+            ),
         );
     }
 }

@@ -241,6 +241,10 @@ pub struct Detail {
     /// detail's curve is for a local stress (e.g. DNV tubular joints).
     #[serde(default)]
     pub scf: Option<f64>,
+    /// A weld improvement method of the family (e.g. IIW `tig-dressing`), acting on
+    /// the normal-stress category of the catalogue entry.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvement: Option<String>,
     #[serde(default)]
     pub normal: Option<ComponentInput>,
     #[serde(default)]
@@ -484,4 +488,34 @@ pub enum SeriesUnitInput {
 pub enum ResidueInput {
     Repeated,
     HalfCycles,
+}
+
+impl ComponentInput {
+    /// The largest stress ratio R = σmin/σmax of the blocks given with σmax > 0, when
+    /// every block states its mean (max/min or range with mean) and no series, table
+    /// history or crane route is given; `None` otherwise.
+    pub fn stated_max_stress_ratio(&self) -> Option<f64> {
+        if self.crane.is_some() || self.loading.is_empty() {
+            return None;
+        }
+        let mut r_max = f64::NEG_INFINITY;
+        for ev in &self.loading {
+            if ev.series.is_some() || ev.table_history.is_some() {
+                return None;
+            }
+            for b in ev.blocks.as_ref()? {
+                let (hi, lo) = match (b.range_mpa, b.mean_mpa, b.max_mpa, b.min_mpa) {
+                    // σmax = σm + Δσ/2, σmin = σm − Δσ/2 (common practice)
+                    (Some(r), Some(m), _, _) => (m + 0.5 * r, m - 0.5 * r),
+                    (None, _, Some(hi), Some(lo)) => (hi, lo),
+                    _ => return None,
+                };
+                if hi > 0.0 {
+                    // R = σmin/σmax (common practice)
+                    r_max = r_max.max(lo / hi);
+                }
+            }
+        }
+        r_max.is_finite().then_some(r_max)
+    }
 }

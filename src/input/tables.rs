@@ -575,6 +575,7 @@ impl<'a> Reader<'a> {
                 group: c.text("group"),
                 environment: None,
                 scf: None,
+                improvement: None,
                 normal: None,
                 shear: None,
             };
