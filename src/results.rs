@@ -415,6 +415,12 @@ pub struct ComponentResult {
     pub max_range_mpa: f64,
     pub validity_limit_mpa: f64,
     pub counted: Vec<CountedRecord>,
+    /// Environment of the family's published class curve, where the family has them.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub environment: Option<String>,
+    /// Stress concentration factor on the given nominal stress, where one is given.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scf: Option<f64>,
     /// The crane route used in place of a spectrum (EN 1991-3 2.12), if any.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub crane_route: Option<CraneRouteUsed>,

@@ -346,3 +346,27 @@ fn en_bolts_and_hollow_lattice_joints() {
         Some("hollow-joint")
     );
 }
+
+#[test]
+fn dnv_demo_dolphin_assesses_with_its_environments_and_scf() {
+    // the invented Kestrel Bay mooring dolphin (projects/kestrel-bay-dolphin.yaml)
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("projects")
+        .join("kestrel-bay-dolphin.yaml");
+    let lib = Library::load(None).unwrap();
+    let r = seamlife::run_project(&path, &lib).unwrap();
+    assert_eq!(r.family.id, "dnv-rp-c203");
+    assert_eq!(r.summary.details, 6);
+    assert_eq!(r.summary.failed, 1);
+    assert_eq!(r.summary.governing_detail.as_deref(), Some("MD2-K01"));
+    let env = |id: &str| {
+        let d = r.details.iter().find(|d| d.id == id).unwrap();
+        (d.components[0].environment.clone(), d.components[0].scf)
+    };
+    // the project's seawater-cp, a detail's own free corrosion and air
+    assert_eq!(env("MD2-K01"), (Some("seawater-cp".into()), Some(2.6)));
+    assert_eq!(env("MD2-A01"), (Some("free-corrosion".into()), None));
+    assert_eq!(env("MD2-F01"), (Some("air".into()), None));
+    // DFF 3: D ≤ 1/3 (DNV-RP-C203 1.2, from memory)
+    assert!((r.details[0].damage_limit - 1.0 / 3.0).abs() < 1e-15);
+}

@@ -698,6 +698,8 @@ pub(super) fn assess_component(
         } else {
             s.history.counted.clone()
         },
+        environment: cv.class.as_ref().map(|c| c.environment.clone()),
+        scf: (s.scf != 1.0).then_some(s.scf),
         crane_route: s.crane.clone(),
         improvement: s.improvement.clone(),
     };
