@@ -370,3 +370,30 @@ fn dnv_demo_dolphin_assesses_with_its_environments_and_scf() {
     // DFF 3: D ≤ 1/3 (DNV-RP-C203 1.2, from memory)
     assert!((r.details[0].damage_limit - 1.0 / 3.0).abs() < 1e-15);
 }
+
+#[test]
+fn crane_route_and_improvement_demos_assess() {
+    // the invented demos projects/kestrel-bay-runway-crane-route.yaml (EN 1991-3 route)
+    // and projects/kestrel-bay-trolley-frame-improved.yaml (IIW improvements)
+    let run = |name: &str| {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("projects")
+            .join(name);
+        seamlife::run_project(&path, &Library::load(None).unwrap()).unwrap()
+    };
+    let r = run("kestrel-bay-runway-crane-route.yaml");
+    assert_eq!(r.summary.details, 3);
+    assert!(r
+        .details
+        .iter()
+        .all(|d| d.components.iter().all(|c| c.crane_route.is_some())));
+    // class S3: λ = 0.397 normal, 0.575 shear (EN 1991-3 Table 2.12, from memory)
+    let w = &r.details[0];
+    assert_eq!(w.components[0].crane_route.as_ref().unwrap().lambda, 0.397);
+    assert_eq!(w.components[1].crane_route.as_ref().unwrap().lambda, 0.575);
+    let r = run("kestrel-bay-trolley-frame-improved.yaml");
+    // as welded FAT 80 fails, TIG dressed FAT 104 passes (IIW 6.4 × 1.3, from memory)
+    assert_eq!(r.details[0].status, seamlife::results::Status::Fail);
+    assert_eq!(r.details[1].status, seamlife::results::Status::Pass);
+    assert!((r.details[1].components[0].category_mpa - 104.0).abs() < 1e-12);
+}
