@@ -468,6 +468,18 @@ pub struct ComponentResult {
     pub max_range_mpa: f64,
     pub validity_limit_mpa: f64,
     pub counted: Vec<CountedRecord>,
+    /// Environment of the family's published class curve, where the family has them.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub environment: Option<String>,
+    /// Stress concentration factor on the given nominal stress, where one is given.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scf: Option<f64>,
+    /// The crane route used in place of a spectrum (EN 1991-3 2.12), if any.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crane_route: Option<CraneRouteUsed>,
+    /// The weld improvement applied to the normal-stress category, if any.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvement: Option<ImprovementUsed>,
 }
 
 /// A measured or simulated record counted by rainflow for one loading event.
@@ -540,3 +552,36 @@ pub fn cautions(family_edition: &str) -> Vec<String> {
 
 /// One line for terminal output.
 pub const CAUTION_LINE: &str = "Caution: the governing code, the project specification and review by a licensed/chartered engineer prevail; category assignment is the engineer's responsibility; check transcribed curve data against the edition in force.";
+
+/// The crane route of a component: ΔσE,2 = λ·φfat·Δσ(max) with the λ of its
+/// stress-history class (EN 1991-3 2.12), and the clauses.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+pub struct CraneRouteUsed {
+    pub stress_history_class: String,
+    /// λ of the class for this component's stress (normal or shear).
+    pub lambda: f64,
+    pub lambda_source: String,
+    pub phi_fat: f64,
+    pub max_range_mpa: f64,
+    /// ΔσE,2 = λ·φfat·Δσ(max), MPa.
+    pub equivalent_range_mpa: f64,
+    pub rule: String,
+    pub check_source: String,
+}
+
+/// A weld improvement applied to a component's category, with its working and source.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+pub struct ImprovementUsed {
+    pub method: String,
+    pub name: String,
+    pub as_welded_category_mpa: f64,
+    pub improved_category_mpa: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub factor: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub class_steps: Option<u32>,
+    pub working: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub curve_variant: Option<String>,
+    pub source: String,
+}

@@ -132,7 +132,7 @@ fn unknown_curve_variant_of_an_entry() {
     refused(
         &t,
         "m5\n  - key: plate-machine",
-        &["catalogue[0].curve_variant: catalogue entry `rolled-plate-plain`: curve_variant `m5` is not one of curves.normal.variants (none defined)"],
+        &["catalogue[0].curve_variant: catalogue entry `rolled-plate-plain`: curve_variant `m5` is not one of curves.normal.variants (hollow-joint)"],
     );
 }
 

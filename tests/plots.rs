@@ -270,6 +270,10 @@ fn component(
         },
         blocks,
         counted: Vec::new(),
+        environment: None,
+        scf: None,
+        crane_route: None,
+        improvement: None,
     }
 }
 

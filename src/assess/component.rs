@@ -23,7 +23,7 @@ pub(super) struct ComponentSetup<'a> {
     pub(super) size: SizeCorrection,
     pub(super) case_key: String,
     pub(super) case: &'a MeanStressCase,
-    pub(super) history: &'a ComponentHistory,
+    pub(super) history: std::borrow::Cow<'a, ComponentHistory>,
     /// Constant or variable amplitude as stated in the project file.
     pub(super) amplitude: Option<Amplitude>,
     /// The curve variant in force: the catalogue entry's own (normal stress), else the
@@ -38,6 +38,10 @@ pub(super) struct ComponentSetup<'a> {
     /// Factor on the given cycles: the AASHTO pair scales them to the truck-passage
     /// cycles (assess/pair.rs); 1 otherwise.
     pub(super) cycles_scale: f64,
+    /// The crane route in place of a spectrum (EN 1991-3 2.12).
+    pub(super) crane: Option<CraneRouteUsed>,
+    /// The weld improvement in force on the normal-stress category.
+    pub(super) improvement: Option<ImprovementUsed>,
 }
 
 /// Warnings and notes collected while a detail is assessed.
@@ -64,6 +68,7 @@ pub(super) fn component_setups<'a>(
     det: &Detail,
     entry: Option<&CatalogueEntry>,
     hist: &'a DetailHistory,
+    fy: f64,
     found: &mut Findings,
 ) -> Vec<ComponentSetup<'a>> {
     let case_key = det
@@ -104,6 +109,17 @@ pub(super) fn component_setups<'a>(
             (None, Some(cat)) => (cat, "catalogue"),
             (None, None) => (f64::NAN, "missing"),
         };
+        // A weld improvement raises the as-welded normal-stress category (IIW 6.4).
+        let improvement = match comp {
+            Component::Normal => super::improvement::improved(fam, det, ci, category, fy),
+            Component::Shear => None,
+        };
+        let category = improvement
+            .as_ref()
+            .map_or(category, |i| i.improved_category_mpa);
+        if let Some(i) = &improvement {
+            found.notes.push(super::improvement::note(i));
+        }
         let size = size_correction(fam, det, entry, comp);
         // A catalogue entry's own curve replaces the project's normal-stress curve
         // (joint-classes/README.md, `curve_variant`).
@@ -111,9 +127,13 @@ pub(super) fn component_setups<'a>(
             Component::Normal => entry.and_then(|e| e.curve_variant.clone()),
             Component::Shear => None,
         };
-        let (curve_variant, curve_from) = match entry_variant {
-            Some(v) => (Some(v), "catalogue entry"),
-            None => (basis.variant.clone(), "project basis"),
+        let (curve_variant, curve_from) = match (
+            improvement.as_ref().and_then(|i| i.curve_variant.clone()),
+            entry_variant,
+        ) {
+            (Some(v), _) => (Some(v), "weld improvement"),
+            (None, Some(v)) => (Some(v), "catalogue entry"),
+            (None, None) => (basis.variant.clone(), "project basis"),
         };
         if comp == Component::Normal
             && entry.is_none()
@@ -134,6 +154,17 @@ pub(super) fn component_setups<'a>(
                 comp.as_str()
             ));
         }
+        let crane = ci
+            .crane
+            .as_ref()
+            .and_then(|cr| super::crane::route(fam, comp, cr));
+        let history = match &crane {
+            Some(c) => std::borrow::Cow::Owned(super::crane::history(fam, basis, c)),
+            None => std::borrow::Cow::Borrowed(h),
+        };
+        if let Some(c) = &crane {
+            found.notes.push(super::crane::note(fam, comp, c, basis));
+        }
         setups.push(ComponentSetup {
             comp,
             category,
@@ -142,7 +173,7 @@ pub(super) fn component_setups<'a>(
             size,
             case_key: case_key.clone(),
             case,
-            history: h,
+            history,
             amplitude: ci.amplitude,
             curve_variant,
             curve_from,
@@ -156,6 +187,8 @@ pub(super) fn component_setups<'a>(
                 det,
                 h.blocks.iter().map(|b| b.cycles_per_year).sum(),
             ),
+            crane,
+            improvement,
         });
     }
     setups
@@ -173,12 +206,13 @@ pub struct CycleDamageRule {
 }
 
 impl CycleDamageRule {
-    /// The rule of component `comp` of detail `det` (`None` when the detail has no
-    /// such component).
+    /// The rule of component `comp` of detail `det` of yield strength `fy_mpa` (`None`
+    /// when the detail has no such component).
     pub(super) fn of(
         fam: &Family,
         basis: &ResolvedBasis,
         det: &Detail,
+        fy_mpa: f64,
         comp: Component,
     ) -> Option<CycleDamageRule> {
         let entry = det.detail.as_ref().and_then(|k| fam.entry(k));
@@ -187,7 +221,7 @@ impl CycleDamageRule {
             shear: Some(ComponentHistory::default()),
         };
         let mut found = Findings::default();
-        let setups = component_setups(fam, basis, det, entry, &any, &mut found);
+        let setups = component_setups(fam, basis, det, entry, &any, fy_mpa, &mut found);
         let s = setups.iter().find(|s| s.comp == comp)?;
         let cv = curves(fam, basis, s);
         Some(CycleDamageRule {
@@ -250,7 +284,11 @@ fn curves(fam: &Family, basis: &ResolvedBasis, s: &ComponentSetup) -> Curves {
     // A published class replaces the category-relative segments (joint-classes/README.md,
     // `classes`): its own slopes and knees, through its own range at the reference cycles.
     let class = class_curve(fam, basis, s);
+    // The crane route's ΔσE,2 is checked on the first slope alone (EN 1993-1-9 eq. (8.2)
+    // at 2·10^6 cycles): one open segment, no knee and no cut-off.
+    let crane_segs = super::crane::segments(def);
     let segs = match &class {
+        _ if s.crane.is_some() => &crane_segs[..],
         Some(c) => &c.segments[..],
         None => fam
             .segments(s.comp, s.curve_variant.as_deref())
@@ -479,6 +517,12 @@ fn amplitude_of(
     loads: &[(f64, f64)],
     found: &mut Findings,
 ) -> (Amplitude, String) {
+    if s.crane.is_some() {
+        return (
+            Amplitude::Variable,
+            "EN 1991-3 crane route: ΔσE,2 stands for the variable loading of the design life at 2·10⁶ cycles".into(),
+        );
+    }
     let counted =
         !s.history.counted.is_empty() || s.history.blocks.iter().any(|b| b.origin != "given");
     let one_range = !loads.is_empty()
@@ -648,6 +692,7 @@ pub(super) fn assess_component(
             .as_ref()
             .is_some_and(|p| !p.is_empty());
     if s.comp == Component::Normal
+        && s.crane.is_none()
         && rule_can_act
         && s.history.blocks.iter().any(|b| b.max_mpa.is_none())
     {
@@ -659,7 +704,13 @@ pub(super) fn assess_component(
             ),
         );
     }
-    let (form, dlim, source) = if constant_amplitude {
+    let (form, dlim, source) = if let (Some(_), Some(route)) = (&s.crane, &fam.crane_route) {
+        (
+            basis.check_form,
+            basis.damage_limit.value,
+            text(lean, || route.check_source.clone()),
+        )
+    } else if constant_amplitude {
         let (f, d, s) = &basis.constant_amplitude;
         (*f, *d, text(lean, || s.clone()))
     } else {
@@ -761,6 +812,10 @@ pub(super) fn assess_component(
         } else {
             s.history.counted.clone()
         },
+        environment: cv.class.as_ref().map(|c| c.environment.clone()),
+        scf: (s.scf != 1.0).then_some(s.scf),
+        crane_route: s.crane.clone(),
+        improvement: s.improvement.clone(),
     };
     let part = Part {
         comp: s.comp,

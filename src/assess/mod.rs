@@ -9,7 +9,9 @@
 mod basis;
 mod component;
 mod corrections;
+mod crane;
 pub mod curve;
+mod improvement;
 mod pair;
 mod verify;
 
@@ -281,7 +283,7 @@ fn assess_detail(
         .map(|m| m.fy_mpa)
         .unwrap_or(f64::NAN);
     let mut found = Findings::default();
-    let setups = component_setups(fam, basis, det, entry, hist, &mut found);
+    let setups = component_setups(fam, basis, det, entry, hist, fy, &mut found);
     let mut comps = Vec::with_capacity(setups.len());
     let mut parts = Vec::with_capacity(setups.len());
     let mut outside = false;
@@ -348,7 +350,13 @@ pub fn cycle_rules<'a>(
     let basis = resolve_basis(&project.file, fam);
     move |i, comp| {
         let det = project.file.details.get(i)?;
-        let rule = component::CycleDamageRule::of(fam, &basis, det, comp)?;
+        let fy = project
+            .file
+            .materials
+            .get(&det.material)
+            .map(|m| m.fy_mpa)
+            .unwrap_or(f64::NAN);
+        let rule = component::CycleDamageRule::of(fam, &basis, det, fy, comp)?;
         Some(std::sync::Arc::new(rule) as crate::histories::damage::SharedRule)
     }
 }

@@ -15,6 +15,12 @@ use crate::files::locate::YamlPath;
 
 mod pair;
 pub use pair::{AashtoPair, PairCategory};
+pub mod crane;
+pub mod improvement;
+pub mod search;
+
+pub use crane::{CraneLambda, CraneRoute};
+pub use improvement::{Improvement, Improvements};
 
 /// Families compiled into the binary so that the tool runs from any folder.
 pub const EMBEDDED: &[(&str, &str)] = &[
@@ -68,6 +74,12 @@ pub struct Family {
     /// where the code publishes mean curves with their scatter (BS 7608).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub design_curve: Option<DesignCurveRule>,
+    /// A crane route (EN 1991-3 λ factors) offered to components without a spectrum.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crane_route: Option<CraneRoute>,
+    /// Weld improvement methods (IIW) that a detail may name with `improvement:`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvements: Option<Improvements>,
     pub catalogue: Vec<CatalogueEntry>,
     /// Where the family came from (embedded or a file); filled by the loader.
     #[serde(skip)]
@@ -627,6 +639,12 @@ impl Family {
         }
         self.check_published()?;
         self.check_pair()?;
+        if let Some(r) = &self.crane_route {
+            r.check(&root.key("crane_route"))?;
+        }
+        if let Some(i) = &self.improvements {
+            i.check(self, &root.key("improvements"))?;
+        }
         let pf = root.key("partial_factors");
         positive(
             pf.key("gamma_ff").key("value"),
@@ -1316,8 +1334,19 @@ mod tests {
                 .normal_category,
             Some(50.0)
         );
-        // no EN entry names a curve variant: EN has one normal-stress curve shape
-        assert!(en.catalogue.iter().all(|e| e.curve_variant.is_none()));
+        // only the Table 8.7 lattice joints name a curve variant: their own m = 5 curve
+        // (EN 1993-1-9 Table 8.7, from memory)
+        for e in &en.catalogue {
+            assert_eq!(
+                e.curve_variant.is_some(),
+                e.key.starts_with("lattice-"),
+                "{}",
+                e.key
+            );
+        }
+        let hj = &en.curves.normal.variants["hollow-joint"];
+        assert!(hj.entry_only);
+        assert!(hj.segments.iter().all(|s| s.slope_m == 5.0));
     }
 
     #[test]
@@ -1490,10 +1519,10 @@ mod tests {
                 "between 0 and 1, got 1.5",
             ),
             (
-                "    normal_category: 90\n    thickness_exponent: 0.2",
-                "    normal_category: 90\n    thickness_exponent: 1.2",
-                "1.2",
-                "catalogue[11].thickness_exponent",
+                "    normal_category: 90\n    thickness_exponent: 0.2   # Table 8.3 details 5-7",
+                "    normal_category: 90\n    thickness_exponent: 1.2   # Table 8.3 details 5-7",
+                "1.2   # Table 8.3 details 5-7",
+                "catalogue[28].thickness_exponent",
                 "thickness_exponent must lie between 0 and 1, got 1.2",
             ),
             (
@@ -1516,13 +1545,13 @@ mod tests {
                 "    normal_category: 160\n    mean_stress_case: non-welded\n    curve_variant: flat\n  - key: plate-machine",
                 "flat\n  - key: plate-machine",
                 "catalogue[0].curve_variant",
-                "curve_variant `flat` is not one of curves.normal.variants (none defined)",
+                "curve_variant `flat` is not one of curves.normal.variants (hollow-joint)",
             ),
             // ... on an entry that has a normal-stress category.
             (
-                "    shear_category: 100\n",
-                "    shear_category: 100\n    curve_variant: flat\n",
-                "flat\n    mean_stress_case: non-welded\n  # ---- Table 8.2",
+                "    shear_category: 100\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
+                "    shear_category: 100\n    curve_variant: flat\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
+                "flat\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
                 "catalogue[3].curve_variant",
                 "gives no normal_category",
             ),
@@ -1546,7 +1575,7 @@ mod tests {
                 "    curve_variant: m4\n  - key: plate-machine-cut",
                 "m4",
                 "catalogue[0].curve_variant",
-                "curve_variant `m4` is not one of curves.normal.variants (m5, non-welded)",
+                "curve_variant `m4` is not one of curves.normal.variants (improved-m5, m5, non-welded)",
             ),
             (
                 "[[-1.0, 1.6], [0.5, 1.0]]",

@@ -2,10 +2,119 @@
 
 use std::path::Path;
 
-use crate::catalogue::{Component, Family, Library};
-use crate::error::{Error, EXIT_PASS};
+use crate::catalogue::{CatalogueEntry, Component, Family, Library};
+use crate::error::{Error, EXIT_FAIL, EXIT_PASS};
 use crate::files::short_num;
 use crate::results::CAUTION_LINE;
+
+/// The family named on the command line, or an input error with a near-match hint.
+fn named<'a>(id: &str, library: &'a Library) -> Result<&'a Family, Error> {
+    library.get(id).ok_or_else(|| {
+        let ids = library.ids();
+        let hint = match crate::input::suggest(id, ids.iter().copied()) {
+            Some(n) => format!("did you mean `{n}`?"),
+            None => format!("known families: {}", ids.join(", ")),
+        };
+        Error::Input(
+            crate::error::InputError::new(
+                crate::error::InputErrorKind::UnknownFamily,
+                crate::error::Location::file(Path::new("<command line>")),
+                format!("unknown curve family `{id}`"),
+            )
+            .hint(hint),
+        )
+    })
+}
+
+/// `seamlife classes [FAMILY] --search WORDS`: the entries holding every word, best
+/// first; exit 1 with the unknown words and near matches when none does.
+pub(super) fn search(
+    family: Option<&str>,
+    args: &[String],
+    library: &Library,
+) -> Result<i32, Error> {
+    let words = crate::catalogue::search::words(args);
+    if words.is_empty() {
+        return Err(Error::Input(
+            crate::error::InputError::new(
+                crate::error::InputErrorKind::MissingField,
+                crate::error::Location::file(Path::new("<command line>")),
+                "--search needs at least one word".to_string(),
+            )
+            .hint("e.g. `seamlife classes en1993-1-9 --search cover plate`"),
+        ));
+    }
+    let families: Vec<&Family> = match family {
+        Some(id) => vec![named(id, library)?],
+        None => library.families.iter().collect(),
+    };
+    let mut out = String::new();
+    let mut any = false;
+    for f in &families {
+        let found = crate::catalogue::search::search(f, &words);
+        if found.hits.is_empty() {
+            if family.is_some() {
+                not_found(f, &found, &mut out);
+            }
+            continue;
+        }
+        any = true;
+        out.push_str(&format!(
+            "{} — {} of {} catalogue entries hold every word of `{}`, best first:\n",
+            f.id,
+            found.hits.len(),
+            f.catalogue.len(),
+            words.join(" ")
+        ));
+        let entries: Vec<_> = found.hits.iter().map(|h| h.entry).collect();
+        entry_table(&entries, &mut out);
+        out.push('\n');
+    }
+    if !any && family.is_none() {
+        out.push_str(&format!(
+            "no catalogue entry of any family ({}) holds every word of `{}`\n",
+            library.ids().join(", "),
+            words.join(" ")
+        ));
+        out.push_str("  hint: name a family (`seamlife classes ID --search ...`) to see near matches, or use fewer words\n");
+    }
+    out.push_str(CAUTION_LINE);
+    out.push('\n');
+    super::output::print_text(&out)?;
+    Ok(if any { EXIT_PASS } else { EXIT_FAIL })
+}
+
+fn not_found(f: &Family, found: &crate::catalogue::search::Found, out: &mut String) {
+    out.push_str(&format!(
+        "no {} catalogue entry holds every word of `{}`\n",
+        f.id,
+        found.words.join(" ")
+    ));
+    for (w, near) in &found.unknown {
+        match near {
+            Some(n) => out.push_str(&format!(
+                "  hint: `{w}` occurs in no entry; did you mean `{n}`?\n"
+            )),
+            None => out.push_str(&format!(
+                "  hint: `{w}` occurs in no entry; try another word\n"
+            )),
+        }
+    }
+    if !found.partial.is_empty() {
+        out.push_str(&format!(
+            "  entries holding the most words ({} of {}):\n",
+            found.partial[0].1,
+            found.words.len()
+        ));
+        for (e, _) in &found.partial {
+            out.push_str(&format!("    {}  {}\n", e.key, e.description));
+        }
+    }
+    out.push_str(&format!(
+        "  `seamlife classes {}` lists the whole catalogue\n\n",
+        f.id
+    ));
+}
 
 pub(super) fn run(family: Option<&str>, library: &Library) -> Result<i32, Error> {
     let mut out = String::new();
@@ -23,24 +132,7 @@ pub(super) fn run(family: Option<&str>, library: &Library) -> Result<i32, Error>
                 ));
             }
         }
-        Some(id) => {
-            let Some(f) = library.get(id) else {
-                let ids = library.ids();
-                let hint = match crate::input::suggest(id, ids.iter().copied()) {
-                    Some(n) => format!("did you mean `{n}`?"),
-                    None => format!("known families: {}", ids.join(", ")),
-                };
-                return Err(Error::Input(
-                    crate::error::InputError::new(
-                        crate::error::InputErrorKind::UnknownFamily,
-                        crate::error::Location::file(Path::new("<command line>")),
-                        format!("unknown curve family `{id}`"),
-                    )
-                    .hint(hint),
-                ));
-            };
-            family_listing(f, &mut out);
-        }
+        Some(id) => family_listing(named(id, library)?, &mut out),
     }
     out.push('\n');
     out.push_str(CAUTION_LINE);
@@ -126,13 +218,41 @@ fn family_listing(f: &Family, out: &mut String) {
             d.source
         ));
     }
+    if let Some(r) = &f.crane_route {
+        out.push_str(&format!(
+            "crane route (`crane:` in place of `loading:`): {} — {}\n  λ normal/shear by class: {}\n  ({})\n",
+            r.name,
+            r.rule,
+            r.classes
+                .iter()
+                .map(|(k, l)| format!("{k} {}/{}", short_num(l.normal), short_num(l.shear)))
+                .collect::<Vec<_>>()
+                .join(", "),
+            r.source
+        ));
+    }
+    if let Some(set) = &f.improvements {
+        out.push_str(&format!(
+            "weld improvements (`improvement:` on a detail; {} weld-toe detail types):\n",
+            set.applies_to.len()
+        ));
+        for (k, m) in &set.methods {
+            out.push_str(&format!("  {k:<18} {} [{}]\n", m.name, m.source));
+        }
+    }
     out.push_str("\nmean-stress cases:\n");
     for (k, c) in &f.mean_stress.cases {
         out.push_str(&format!("  {k:<18} {}\n", c.name));
     }
     out.push_str("\ncatalogue:\n");
-    let kw = f
-        .catalogue
+    let entries: Vec<&CatalogueEntry> = f.catalogue.iter().collect();
+    entry_table(&entries, out);
+}
+
+/// Catalogue entries as a table: key, categories, size exponent, description and
+/// reference.
+fn entry_table(entries: &[&CatalogueEntry], out: &mut String) {
+    let kw = entries
         .iter()
         .map(|e| e.key.len())
         .max()
@@ -142,7 +262,7 @@ fn family_listing(f: &Family, out: &mut String) {
         "  {:<kw$}  {:>6}  {:>6}  {:>4}  description [reference]\n",
         "key", "normal", "shear", "n"
     ));
-    for e in &f.catalogue {
+    for e in entries {
         let o = |v: Option<f64>| v.map(short_num).unwrap_or_else(|| "-".into());
         out.push_str(&format!(
             "  {:<kw$}  {:>6}  {:>6}  {:>4}  {} [{}]{}\n",

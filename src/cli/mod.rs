@@ -73,6 +73,10 @@ pub enum Command {
     Classes {
         /// Family id, e.g. en1993-1-9.
         family: Option<String>,
+        /// Find catalogue entries holding all these words (in key, description or
+        /// reference; case-insensitive), best first. Without FAMILY: every family.
+        #[arg(long, num_args = 1.., value_name = "WORDS")]
+        search: Option<Vec<String>>,
     },
     /// Write a starter project into a new folder.
     New {
@@ -237,7 +241,10 @@ pub fn run(cli: &Cli) -> Result<i32, Error> {
         Command::Fit(a) => fit::run(a, &library),
         Command::Merge(a) => merge::run(a),
         Command::Lint { file } => lint::run(file, &library),
-        Command::Classes { family } => classes::run(family.as_deref(), &library),
+        Command::Classes { family, search } => match search {
+            Some(words) => classes::search(family.as_deref(), words, &library),
+            None => classes::run(family.as_deref(), &library),
+        },
         Command::New { dir } => new::run(dir, &library),
         Command::Verify(a) => verify::run(a, &library),
         Command::Diff(a) => diff::run(a, &library),

@@ -764,6 +764,9 @@ fn check_details(c: &mut Checker, file: &ProjectFile, family: Option<&Family>) {
                 fam.environment_names(),
             );
         }
+        if let Some(name) = &det.improvement {
+            check_improvement(c, file, fam, det, entry, name, &p);
+        }
         if let Some(case) = &det.mean_stress_case {
             c.option_name(
                 || p().key("mean_stress_case"),
@@ -854,6 +857,10 @@ fn check_component(
                 );
             }
         }
+    }
+    if let Some(cr) = &ci.crane {
+        check_crane(c, fam, ci, cr, cp);
+        return;
     }
     if ci.amplitude == Some(Amplitude::Constant) {
         check_constant_amplitude(c, ci, cp);
@@ -968,6 +975,171 @@ fn check_component(
         }
     }
 }
+
+/// The crane route (EN 1991-3 2.12): a family that offers it, a known stress-history
+/// class, Δσ(max) and φfat in bounds, and no loading or amplitude beside it.
+fn check_crane(
+    c: &mut Checker,
+    fam: &Family,
+    ci: &ComponentInput,
+    cr: &crate::input::CraneInput,
+    cp: &dyn Fn() -> YamlPath,
+) {
+    let kp = || cp().key("crane");
+    match &fam.crane_route {
+        None => c.push(
+            kp(),
+            InputErrorKind::UnknownOption,
+            format!("family `{}` offers no crane route", fam.id),
+            Some("the crane route (stress-history class, λ and φfat) belongs to the EN family (basis.family: en1993-1-9); give `loading:` blocks here".into()),
+        ),
+        Some(route) => c.option_name(
+            || kp().key("stress_history_class"),
+            "stress-history class",
+            &cr.stress_history_class,
+            route.classes.keys().cloned().collect(),
+        ),
+    }
+    c.positive_upto(
+        || kp().key("max_range_mpa"),
+        "max_range_mpa",
+        cr.max_range_mpa,
+        MAX_STRESS_MPA,
+        STRESS_WHY,
+    );
+    let phi = cr.phi_fat;
+    if !(phi.is_finite() && (1.0..=MAX_PHI_FAT).contains(&phi)) {
+        c.push(
+            kp().key("phi_fat"),
+            InputErrorKind::OutOfRange,
+            format!(
+                "phi_fat must lie between 1 and {MAX_PHI_FAT}, got {}",
+                short_num(phi)
+            ),
+            Some("φfat is the dynamic factor for fatigue of EN 1991-3 2.12.1, at least 1".into()),
+        );
+    }
+    if !ci.loading.is_empty() {
+        c.push(
+            cp().key("loading"),
+            InputErrorKind::InvalidValue,
+            "give either `loading:` or `crane:`, not both: the crane route replaces the spectrum"
+                .into(),
+            Some("remove `loading:` to use ΔσE,2 = λ·φfat·Δσ(max), or remove `crane:`".into()),
+        );
+    }
+    if ci.amplitude.is_some() {
+        c.push(
+            cp().key("amplitude"),
+            InputErrorKind::InvalidValue,
+            "`amplitude` does not apply to the crane route: ΔσE,2 is a damage-equivalent range of variable loading".into(),
+            Some("remove `amplitude:`".into()),
+        );
+    }
+}
+
+/// A weld improvement: a family that gives it, a known method, a catalogue entry it
+/// applies to, a normal-stress component, and the method's limits met.
+fn check_improvement(
+    c: &mut Checker,
+    file: &ProjectFile,
+    fam: &Family,
+    det: &crate::input::Detail,
+    entry: Option<&crate::catalogue::CatalogueEntry>,
+    name: &str,
+    p: &dyn Fn() -> YamlPath,
+) {
+    let ip = || p().key("improvement");
+    let Some(set) = &fam.improvements else {
+        c.push(
+            ip(),
+            InputErrorKind::UnknownOption,
+            format!("family `{}` gives no weld improvement factors", fam.id),
+            Some("improvement factors (burr grinding, TIG dressing, peening, HFMI) are given by the IIW family; remove `improvement:` or assess with basis.family: iiw".into()),
+        );
+        return;
+    };
+    let Some(m) = set.methods.get(name) else {
+        c.option_name(
+            ip,
+            "improvement",
+            name,
+            set.methods.keys().cloned().collect(),
+        );
+        return;
+    };
+    let refuse = |c: &mut Checker, why: String, hint: String| {
+        c.push(
+            ip(),
+            InputErrorKind::InvalidValue,
+            format!(
+                "improvement `{name}` cannot be used on detail `{}`: {why}",
+                det.id
+            ),
+            Some(hint),
+        );
+    };
+    let Some(e) = entry else {
+        refuse(
+            c,
+            "it applies to catalogue detail types, and the detail names none".into(),
+            format!(
+                "give `detail:` with one of the types in `seamlife classes {}`",
+                fam.id
+            ),
+        );
+        return;
+    };
+    if !set.applies_to.contains(&e.key) {
+        refuse(
+            c,
+            format!(
+                "the family grants it for weld-toe details only, and `{}` is not one of them",
+                e.key
+            ),
+            format!(
+                "`seamlife classes {}` lists the detail types an improvement applies to",
+                fam.id
+            ),
+        );
+        return;
+    }
+    let Some(ci) = &det.normal else {
+        refuse(
+            c,
+            "it acts on the normal-stress category, and the detail has no `normal:` component"
+                .into(),
+            "add the normal-stress loading, or remove `improvement:`".into(),
+        );
+        return;
+    };
+    let Some(category) = ci.category.or(e.normal_category) else {
+        return;
+    };
+    let Some(fy) = file.materials.get(&det.material).map(|m| m.fy_mpa) else {
+        return;
+    };
+    if let Err(why) = m.gain(
+        &fam.curves.normal.categories_mpa,
+        category,
+        fy,
+        det.thickness_mm,
+        ci.stated_max_stress_ratio(),
+    ) {
+        refuse(
+            c,
+            why,
+            format!(
+                "{} ({}); remove `improvement:` to assess the weld as welded",
+                m.name, m.source
+            ),
+        );
+    }
+}
+
+/// Largest dynamic factor φfat accepted (EN 1991-3 2.12.1 values lie near 1.0-1.3;
+/// a larger figure is a slip; common practice).
+pub const MAX_PHI_FAT: f64 = 3.0;
 
 /// Loading stated as constant amplitude must be blocks of one range: a counted record
 /// is variable amplitude by nature.

@@ -255,6 +255,10 @@ pub struct Detail {
     /// of the project's.
     #[serde(default)]
     pub cycles_per_truck_passage: Option<f64>,
+    /// A weld improvement method of the family (e.g. IIW `tig-dressing`), acting on
+    /// the normal-stress category of the catalogue entry.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub improvement: Option<String>,
     #[serde(default)]
     pub normal: Option<ComponentInput>,
     #[serde(default)]
@@ -271,7 +275,26 @@ pub struct ComponentInput {
     /// every block is given in the file with one and the same range, else variable.
     #[serde(default)]
     pub amplitude: Option<Amplitude>,
+    #[serde(default)]
     pub loading: Vec<LoadEvent>,
+    /// The crane route in place of `loading` (families with a `crane_route`, EN):
+    /// ΔσE,2 = λ·φfat·Δσ(max).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crane: Option<CraneInput>,
+}
+
+/// A component loaded by a crane, given by the crane's stress-history class instead of
+/// a spectrum (EN 1991-3 2.12).
+#[derive(Debug, Clone, Deserialize, Serialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct CraneInput {
+    /// Stress-history class S0 ... S9 of the crane (EN 1991-3 Table 2.11 / 2.12).
+    #[serde(deserialize_with = "text_stress_history_class")]
+    pub stress_history_class: String,
+    /// Stress range from the maximum crane load, MPa (Δσ(max) or Δτ(max)).
+    pub max_range_mpa: f64,
+    /// Dynamic factor for fatigue φfat (EN 1991-3 2.12.1).
+    pub phi_fat: f64,
 }
 
 /// Whether a component's loading is constant or variable amplitude.
@@ -464,6 +487,7 @@ required_texts! {
     text_material => "material",
     text_event => "event",
     text_file => "file",
+    text_stress_history_class => "stress_history_class",
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, schemars::JsonSchema)]
@@ -478,4 +502,34 @@ pub enum SeriesUnitInput {
 pub enum ResidueInput {
     Repeated,
     HalfCycles,
+}
+
+impl ComponentInput {
+    /// The largest stress ratio R = σmin/σmax of the blocks given with σmax > 0, when
+    /// every block states its mean (max/min or range with mean) and no series, table
+    /// history or crane route is given; `None` otherwise.
+    pub fn stated_max_stress_ratio(&self) -> Option<f64> {
+        if self.crane.is_some() || self.loading.is_empty() {
+            return None;
+        }
+        let mut r_max = f64::NEG_INFINITY;
+        for ev in &self.loading {
+            if ev.series.is_some() || ev.table_history.is_some() {
+                return None;
+            }
+            for b in ev.blocks.as_ref()? {
+                let (hi, lo) = match (b.range_mpa, b.mean_mpa, b.max_mpa, b.min_mpa) {
+                    // σmax = σm + Δσ/2, σmin = σm − Δσ/2 (common practice)
+                    (Some(r), Some(m), _, _) => (m + 0.5 * r, m - 0.5 * r),
+                    (None, _, Some(hi), Some(lo)) => (hi, lo),
+                    _ => return None,
+                };
+                if hi > 0.0 {
+                    // R = σmin/σmax (common practice)
+                    r_max = r_max.max(lo / hi);
+                }
+            }
+        }
+        r_max.is_finite().then_some(r_max)
+    }
 }

@@ -472,6 +472,7 @@ impl<'a> Reader<'a> {
                 category: cells.category,
                 amplitude: cells.amplitude,
                 loading: Vec::new(),
+                crane: None,
             })
             .loading
     }
@@ -575,6 +576,7 @@ impl<'a> Reader<'a> {
                 environment: None,
                 cycles_per_truck_passage: None,
                 scf: None,
+                improvement: None,
                 normal: None,
                 shear: None,
             };

@@ -339,6 +339,22 @@ def aashto():
     # category C′, 31 MPa, ADTT 900 > 745: Fatigue I in force
     p("AASHTO C′: Fatigue I ratio 1.75·31/82.7", D("1.75") * 31 / D("82.7"))
     p("AASHTO C′: Fatigue II ratio", D("0.8") * 31 / root(pow10("12.159") / n, 3))
+def catalogues():
+    print("== tests/codes.rs, tests/crane_route.rs, tests/improvements.rs (values from memory)")
+    p("EN bolt d = 36: (30/36)^0.25", root(D(30) / 36, 4))
+    ref = D(90) / D("1.35")
+    p("EN Table 8.7 (m = 5): D of 1e6 × 60 MPa", D(1e6) / (D(2e6) * (ref / 60) ** 5))
+    p("EN crane S4 normal: 0.5·1.1·100·1.35/80", D("0.5") * D("1.1") * 100 * D("1.35") / 80)
+    p("EN crane S4 shear: 0.66·1.1·40·1.35/80", D("0.66") * D("1.1") * 40 * D("1.35") / 80)
+    a = D("0.5") * D("1.1") * 100 * D("1.35") / 80
+    b = D("0.66") * D("1.1") * 40 * D("1.35") / 80
+    p("EN crane S4: eq. (8.3) a^3 + b^5", a ** 3 + b ** 5)
+    for fat in (104, 80):
+        ref = D(fat) / D("1.3")
+        knee = ref * (D(2e6) / D(1e7)) ** (D(1) / D(3))
+        n30 = D(1e7) * (knee / 30) ** 22
+        n80 = D(2e6) * (ref / 80) ** 3
+        p(f"IIW FAT {fat}: D over 20 years, 1e4 × 80 + 1e6 × 30", D(20) * (D(1e4) / n80 + D(1e6) / n30))
 
 
 if __name__ == "__main__":
@@ -350,3 +366,4 @@ if __name__ == "__main__":
     dnv()
     bs7608()
     aashto()
+    catalogues()
