@@ -3,6 +3,7 @@
 //! ([`review`]). Each reads results models (and project files through the ordinary
 //! pipeline) and writes its own serialisable report; none changes the engine.
 
+pub mod package;
 pub mod review;
 pub mod verify;
 
