@@ -422,3 +422,39 @@ fn demo_review_validates_against_its_json_schema() {
     let text = std::fs::read_to_string(demo_review()).unwrap();
     assert!(text.contains(&format!("project_sha256: {}", sha256_of(&demo()))));
 }
+
+#[test]
+fn package_from_a_results_model_attaches_inputs_found_beside_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = project_copy(dir.path());
+    let json = dir.path().join("r.json");
+    let o = seamlife()
+        .args(["assess", "--json", "-o"])
+        .arg(&json)
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let beside = dir.path().join("beside.pdf");
+    let (code, _, err) = render(&json, &beside, &[]);
+    assert_eq!(code, 1, "{err}");
+    let (code, stdout, _) = run(&[os("verify"), beside.as_os_str()]);
+    assert_eq!(code, 0, "{stdout}");
+    // the model alone: the record is named by hash only, and verify asks for the project
+    let alone = tempfile::tempdir().unwrap();
+    let json2 = alone.path().join("r.json");
+    std::fs::copy(&json, &json2).unwrap();
+    let pdf2 = alone.path().join("alone.pdf");
+    let (code, _, err) = render(&json2, &pdf2, &[]);
+    assert_eq!(code, 1, "{err}");
+    let (code, _, err) = run(&[os("verify"), pdf2.as_os_str()]);
+    assert_eq!(code, 2);
+    assert!(
+        err.contains("names 1 input file(s) by hash only")
+            && err.contains("records/rg3-sg4-record.csv"),
+        "{err}"
+    );
+    // with the project given, the attached model is checked against it
+    let (code, stdout, err) = run(&[os("verify"), pdf2.as_os_str(), p.as_os_str()]);
+    assert_eq!(code, 0, "{stdout}{err}");
+}

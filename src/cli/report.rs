@@ -53,6 +53,7 @@ pub struct ReportArgs {
 fn input_attachments(
     r: &crate::results::Results,
     project_dir: Option<&Path>,
+    from_results: bool,
 ) -> Result<Vec<crate::report::Attachment>, Error> {
     use crate::report::{Attachment, MAX_ATTACHED_BYTES, PROJECT_PREFIX};
     let mut out = Vec::new();
@@ -85,13 +86,26 @@ fn input_attachments(
             out.push(by_hash());
             continue;
         }
-        let data = crate::files::read_bytes_bounded(
+        let read = crate::files::read_bytes_bounded(
             &dir.join(&f.file),
             MAX_ATTACHED_BYTES,
             "attached files",
             "larger files are named by hash only",
-        )?;
+        );
+        let data = match read {
+            Ok(d) => d,
+            // beside a results model: a file gone or changed since is named by hash
+            Err(_) if from_results => {
+                out.push(by_hash());
+                continue;
+            }
+            Err(e) => return Err(e.into()),
+        };
         let a = Attachment::input(out_name(&f.file), data, what.into(), "text/csv");
+        if a.sha256 != f.sha256 && from_results {
+            out.push(by_hash());
+            continue;
+        }
         if a.sha256 != f.sha256 {
             return Err(Error::Input(
                 crate::error::InputError::new(
@@ -184,7 +198,15 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         None => None,
     };
     let project_dir = if is_results_file(&a.file) {
-        None
+        // A results model beside its unchanged project file: its inputs are attached
+        // as from the project, so the package is the same either way.
+        let dir = match a.file.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let same = crate::files::file_sha256(&dir.join(&results.input.file_name))
+            .is_ok_and(|(h, _)| h == results.input.sha256);
+        same.then_some(dir)
     } else {
         Some(match a.file.parent() {
             Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
@@ -200,7 +222,11 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
             "application/yaml",
         ),
     ];
-    attachments.extend(input_attachments(results, project_dir.as_deref())?);
+    attachments.extend(input_attachments(
+        results,
+        project_dir.as_deref(),
+        is_results_file(&a.file),
+    )?);
     if a.pdf_a {
         super::output::print_err(
             "note: PDF/A-2b cannot carry attached files: this package holds no results model; check it with `seamlife verify RESULTS.json PROJECT.yaml`\n",

@@ -79,7 +79,7 @@ fn run_pdf(a: &VerifyArgs, library: &Library) -> Result<i32, Error> {
                     InputErrorKind::MissingField,
                     Location::file(&a.results),
                     format!(
-                        "the package names {} input file(s) by hash only (over {} MiB): {}",
+                        "the package names {} input file(s) by hash only (over {} MiB, or not beside the results model it was made from): {}",
                         pkg.missing.len(),
                         crate::report::MAX_ATTACHED_BYTES >> 20,
                         pkg.missing
