@@ -4,6 +4,8 @@
 //! pipeline) and writes its own serialisable report; none changes the engine.
 
 pub mod diff;
+pub mod package;
+pub mod review;
 pub mod verify;
 
 use std::path::Path;

@@ -38,6 +38,14 @@ pub struct AssessArgs {
     /// No progress bars.
     #[arg(long, short)]
     pub quiet: bool,
+    /// The checker's review file (YAML): after the results, list its open queries and
+    /// the details not accepted (on standard error with --json, --csv, --jsonl or -o).
+    #[arg(long, value_name = "REVIEW.yaml")]
+    pub review: Option<PathBuf>,
+    /// Accept a review written against another project hash, or naming details the
+    /// project does not have, with a warning instead of an error.
+    #[arg(long, requires = "review")]
+    pub allow_stale: bool,
 }
 
 /// A part K of N: 1 <= K <= N.
@@ -75,13 +83,45 @@ pub(super) fn run(
     let shard = a.shard.as_deref().map(parse_shard).transpose()?;
     let opts = crate::input::LoadOptions { strict: a.strict };
     let loaded = crate::load_checked(&a.file, library, opts)?;
-    let inputs = super::inputs_of(
+    let mut inputs = super::inputs_of(
         &a.file,
         loaded.series_paths(),
         loaded.table_paths(),
         jc,
         None,
     );
+    // The review is checked before the work: a bad review gives exit 2 and no output.
+    let review = match &a.review {
+        Some(p) => {
+            inputs.add(p, "the review file");
+            let rv = crate::checker::review::read_review(p)?;
+            let ids: Vec<&str> = loaded
+                .project
+                .file
+                .details
+                .iter()
+                .map(|d| d.id.as_str())
+                .collect();
+            Some(crate::checker::review::check_review(
+                &rv,
+                &ids,
+                &loaded.project.sha256,
+                a.allow_stale,
+            )?)
+        }
+        None => None,
+    };
+    let show_review = |to_stdout: bool| -> Result<(), Error> {
+        if let Some(rec) = &review {
+            let text = crate::checker::review::render_open(rec);
+            if to_stdout {
+                print_text(&text)?;
+            } else {
+                print_err(&text);
+            }
+        }
+        Ok(())
+    };
     if let Some(path) = &a.output {
         // Refuse a bad output before the work.
         crate::files::write::check_target(path, &inputs)?;
@@ -113,6 +153,7 @@ pub(super) fn run(
             write_details(&engine, range, format, w, csv && terminal, err, &mut tick)
         })?;
         progress.finish();
+        show_review(false)?;
         print_err(&format!(
             "{} details: {} pass, {} fail, {} outside the method{}\n{CAUTION_LINE}\n",
             summary.details,
@@ -171,8 +212,12 @@ pub(super) fn run(
             Some(path) => crate::files::write::write_output(path, text.as_bytes(), &inputs)?,
             None => print_text(&text)?,
         }
+        show_review(a.output.is_none())?;
         summary
     };
+    if a.json {
+        show_review(false)?;
+    }
     if a.json || a.output.is_some() {
         print_err(&format!("{CAUTION_LINE}\n"));
     }

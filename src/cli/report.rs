@@ -40,6 +40,93 @@ pub struct ReportArgs {
     /// Seconds typst may take before it is stopped (no PDF is then written).
     #[arg(long, value_name = "SECONDS", default_value_t = 600, value_parser = clap::value_parser!(u64).range(1..=86_400))]
     pub typst_timeout: u64,
+    /// The checker's review file (YAML): verdicts in the summary, remarks on the sheets,
+    /// the review record on the cover.
+    #[arg(long, value_name = "REVIEW.yaml")]
+    pub review: Option<PathBuf>,
+    /// Accept a review written against another project hash, or naming details the
+    /// project does not have, and print a warning in the package instead of an error.
+    #[arg(long, requires = "review")]
+    pub allow_stale: bool,
+}
+
+/// The series and table files of `r` (paths relative to `project_dir`), read when
+/// small enough to attach; larger or unreadable-now ones are named by their hash in
+/// the results. `None`: no folder (a package made from a results model), every file
+/// is named by hash only.
+fn input_attachments(
+    r: &crate::results::Results,
+    project_dir: Option<&Path>,
+    from_results: bool,
+) -> Result<Vec<crate::report::Attachment>, Error> {
+    use crate::report::{Attachment, MAX_ATTACHED_BYTES, PROJECT_PREFIX};
+    let mut out = Vec::new();
+    let files = r
+        .input
+        .series_files
+        .iter()
+        .map(|f| (f, "series file of the project"));
+    let tables = r
+        .input
+        .table_files
+        .iter()
+        .map(|f| (f, "table file of the project"));
+    for (f, what) in files.chain(tables) {
+        let by_hash = || Attachment {
+            name: format!("{PROJECT_PREFIX}{}", f.file),
+            description: what.into(),
+            mime_type: "text/csv".into(),
+            relationship: "source".into(),
+            sha256: f.sha256.clone(),
+            bytes: f.bytes,
+            attached: false,
+            data: Vec::new(),
+        };
+        let Some(dir) = project_dir else {
+            out.push(by_hash());
+            continue;
+        };
+        if f.bytes > MAX_ATTACHED_BYTES || !crate::checker::review::relative_inside(&f.file) {
+            out.push(by_hash());
+            continue;
+        }
+        let read = crate::files::read_bytes_bounded(
+            &dir.join(&f.file),
+            MAX_ATTACHED_BYTES,
+            "attached files",
+            "larger files are named by hash only",
+        );
+        let data = match read {
+            Ok(d) => d,
+            // beside a results model: a file gone or changed since is named by hash
+            Err(_) if from_results => {
+                out.push(by_hash());
+                continue;
+            }
+            Err(e) => return Err(e.into()),
+        };
+        let a = Attachment::input(out_name(&f.file), data, what.into(), "text/csv");
+        if a.sha256 != f.sha256 && from_results {
+            out.push(by_hash());
+            continue;
+        }
+        if a.sha256 != f.sha256 {
+            return Err(Error::Input(
+                crate::error::InputError::new(
+                    crate::error::InputErrorKind::Io,
+                    crate::error::Location::file(&dir.join(&f.file)),
+                    "the file changed while the package was made",
+                )
+                .hint("run the report again when the file no longer changes"),
+            ));
+        }
+        out.push(a);
+    }
+    Ok(out)
+}
+
+fn out_name(rel: &str) -> String {
+    format!("{}{rel}", crate::report::PROJECT_PREFIX)
 }
 
 fn parse_sheets(s: &str) -> Result<crate::report::sheets::SheetSelection, String> {
@@ -59,7 +146,7 @@ fn is_results_file(p: &Path) -> bool {
 }
 
 pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Result<i32, Error> {
-    let (owned, mut inputs);
+    let (owned, inputs);
     if is_results_file(&a.file) {
         let r = crate::merge::read_results(&a.file)?;
         if let Some(sh) = &r.shard {
@@ -84,6 +171,10 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         let run = crate::run_project_checked(&a.file, library)?;
         inputs = super::run_inputs(&run, jc, a.templates.as_deref());
         owned = run.results;
+    }
+    let mut inputs = inputs;
+    if let Some(p) = &a.review {
+        inputs.add(p, "the review file");
     }
     let results = &owned;
     // the project text is echoed in the results: its lines are the project file's
@@ -115,6 +206,62 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         }
         None => None,
     };
+    let review = match &a.review {
+        Some(p) => {
+            let rv = crate::checker::review::read_review(p)?;
+            let ids: Vec<&str> = results.details.iter().map(|d| d.id.as_str()).collect();
+            let rec = crate::checker::review::check_review(
+                &rv,
+                &ids,
+                &results.input.sha256,
+                a.allow_stale,
+            )?;
+            for w in &rec.warnings {
+                super::output::print_err(&format!(
+                    "warning: {}: {}\n",
+                    p.display(),
+                    crate::files::text::one_line(w)
+                ));
+            }
+            Some(rec)
+        }
+        None => None,
+    };
+    let project_dir = if is_results_file(&a.file) {
+        // A results model beside its unchanged project file: its inputs are attached
+        // as from the project, so the package is the same either way.
+        let dir = match a.file.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let same = crate::files::file_sha256(&dir.join(&results.input.file_name))
+            .is_ok_and(|(h, _)| h == results.input.sha256);
+        same.then_some(dir)
+    } else {
+        Some(match a.file.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+            _ => PathBuf::from("."),
+        })
+    };
+    let mut attachments = vec![
+        crate::report::Attachment::results(results)?,
+        crate::report::Attachment::input(
+            out_name(&results.input.file_name),
+            results.input.text.clone().into_bytes(),
+            "project file".into(),
+            "application/yaml",
+        ),
+    ];
+    attachments.extend(input_attachments(
+        results,
+        project_dir.as_deref(),
+        is_results_file(&a.file),
+    )?);
+    if a.pdf_a {
+        super::output::print_err(
+            "note: PDF/A-2b cannot carry attached files: this package holds no results model; check it with `seamlife verify RESULTS.json PROJECT.yaml`\n",
+        );
+    }
     let opts = crate::report::ReportOptions {
         output: a.output.clone(),
         templates: a.templates.clone(),
@@ -126,6 +273,8 @@ pub(super) fn run(a: &ReportArgs, library: &Library, jc: Option<&Path>) -> Resul
         inputs,
         sheets: a.sheets.clone().unwrap_or_default(),
         previous,
+        review,
+        attachments,
     };
     let pending = crate::report::prepare_report(results, &opts)?;
     let s = &results.summary;

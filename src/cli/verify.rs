@@ -12,9 +12,11 @@ use crate::results::CAUTION_LINE;
 
 #[derive(Args, Debug)]
 pub struct VerifyArgs {
-    /// Submitted results model (JSON from `assess --json`).
+    /// Submitted results model (JSON from `assess --json`), or a PDF package from
+    /// `seamlife report`, whose attached results model and inputs are used.
     pub results: PathBuf,
-    /// Its project file [default: the model's project file name in the model's folder].
+    /// Its project file [default: the model's project file name in the model's folder;
+    /// for a PDF, the project file attached to it].
     pub project: Option<PathBuf>,
     /// Relative tolerance on numbers: |a - b| <= rtol · max(|a|, |b|).
     #[arg(long, default_value_t = DEFAULT_RTOL, value_name = "RTOL")]
@@ -41,6 +43,9 @@ pub(super) fn run(a: &VerifyArgs, library: &Library) -> Result<i32, Error> {
     if !a.rtol.is_finite() || a.rtol < 0.0 {
         return Err(bad_rtol(a.rtol));
     }
+    if crate::checker::package::looks_like_pdf(&a.results) {
+        return run_pdf(a, library);
+    }
     let submitted = crate::checker::read_results(&a.results)?;
     let project = a
         .project
@@ -54,6 +59,76 @@ pub(super) fn run(a: &VerifyArgs, library: &Library) -> Result<i32, Error> {
         a.rtol,
     )?;
     emit(&report, a.json, a.max_listed)
+}
+
+/// Verify a PDF package from its attachments (or its attached results model against
+/// the project file given).
+fn run_pdf(a: &VerifyArgs, library: &Library) -> Result<i32, Error> {
+    let pkg = crate::checker::package::extract(&a.results)?;
+    let label = format!(
+        "{}#{}",
+        a.results.display(),
+        crate::report::RESULTS_ATTACHMENT
+    );
+    let submitted = crate::checker::parse_results(&pkg.results_text, std::path::Path::new(&label))?;
+    let (project, shown) = match &a.project {
+        Some(p) => (p.clone(), p.display().to_string()),
+        None => {
+            if !pkg.missing.is_empty() {
+                return Err(InputError::new(
+                    InputErrorKind::MissingField,
+                    Location::file(&a.results),
+                    format!(
+                        "the package names {} input file(s) by hash only (over {} MiB, or not beside the results model it was made from): {}",
+                        pkg.missing.len(),
+                        crate::report::MAX_ATTACHED_BYTES >> 20,
+                        pkg.missing
+                            .iter()
+                            .map(|m| crate::files::shown(m))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+                .hint("give the project file, with those files beside it as the project names them: seamlife verify PACKAGE.pdf PROJECT.yaml")
+                .into());
+            }
+            (
+                pkg.project.clone(),
+                format!(
+                    "{}#{}{}",
+                    a.results.display(),
+                    crate::report::PROJECT_PREFIX,
+                    submitted.input.file_name
+                ),
+            )
+        }
+    };
+    let mut report = verify::verify(&submitted, &label, &project, library, a.rtol)
+        .map_err(|e| relabel(e, pkg.dir(), &a.results))?;
+    report.project_file = shown;
+    drop(pkg);
+    emit(&report, a.json, a.max_listed)
+}
+
+/// Errors in the extracted files name the PDF and the attachment, not the temporary
+/// folder.
+fn relabel(e: Error, dir: &std::path::Path, pdf: &std::path::Path) -> Error {
+    let fix = |mut ie: InputError| {
+        if let Ok(rel) = ie.location.file.strip_prefix(dir) {
+            ie.location.file = std::path::PathBuf::from(format!(
+                "{}#{}{}",
+                pdf.display(),
+                crate::report::PROJECT_PREFIX,
+                rel.display()
+            ));
+        }
+        ie
+    };
+    match e {
+        Error::Input(ie) => Error::Input(fix(ie)),
+        Error::Inputs(v) => Error::Inputs(v.into_iter().map(fix).collect()),
+        other => other,
+    }
 }
 
 /// Print the findings and give the exit code: 0 agree, 1 differences.

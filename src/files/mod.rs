@@ -91,15 +91,14 @@ pub fn read_text_limited(path: &Path) -> Result<String, InputError> {
     )
 }
 
-/// Read a UTF-8 text file of at most `max` bytes; `what` names the kind of file in the
-/// message and `hint` says what to do with a larger one. Only regular files are read,
-/// and never more than `max + 1` bytes, whatever the file system says of the size.
-pub fn read_text_bounded(
+/// Read a file of at most `max` bytes (regular files only, never more than `max + 1`
+/// bytes read); `what` and `hint` as for [`read_text_bounded`].
+pub fn read_bytes_bounded(
     path: &Path,
     max: u64,
     what: &str,
     hint: &str,
-) -> Result<String, InputError> {
+) -> Result<Vec<u8>, InputError> {
     let too_large = |bytes: Option<u64>| {
         let size = match bytes {
             Some(b) => format!("is {} MiB", b.div_ceil(1024 * 1024)),
@@ -127,6 +126,19 @@ pub fn read_text_bounded(
     if bytes.len() as u64 > max {
         return Err(too_large(None));
     }
+    Ok(bytes)
+}
+
+/// Read a UTF-8 text file of at most `max` bytes; `what` names the kind of file in the
+/// message and `hint` says what to do with a larger one. Only regular files are read,
+/// and never more than `max + 1` bytes, whatever the file system says of the size.
+pub fn read_text_bounded(
+    path: &Path,
+    max: u64,
+    what: &str,
+    hint: &str,
+) -> Result<String, InputError> {
+    let bytes = read_bytes_bounded(path, max, what, hint)?;
     String::from_utf8(bytes).map_err(|e| {
         let upto = &e.as_bytes()[..e.utf8_error().valid_up_to()];
         let line = upto.iter().filter(|b| **b == b'\n').count() + 1;

@@ -47,6 +47,73 @@ pub struct ReportOptions {
     /// The diff against an earlier revision (`--previous`): adds the "changes since"
     /// section and marks changed values.
     pub previous: Option<crate::checker::diff::DiffReport>,
+    /// The checker's review held against these results (`report --review`).
+    pub review: Option<crate::checker::review::ReviewRecord>,
+    /// Files the PDF carries as attachments (the results model, the project file, small
+    /// series and table files), and larger ones named by hash only.
+    pub attachments: Vec<Attachment>,
+}
+
+/// A file embedded in the PDF (or, with no data, only named with its hash).
+#[derive(Debug, Clone, Default, serde::Serialize)]
+pub struct Attachment {
+    /// Name inside the PDF: [`RESULTS_ATTACHMENT`], or `project/` and the path of a
+    /// project file relative to the project's folder.
+    pub name: String,
+    pub description: String,
+    pub mime_type: String,
+    /// `data` (the results model) or `source` (an input file).
+    pub relationship: String,
+    pub sha256: String,
+    pub bytes: u64,
+    /// Embedded; false for a file over [`MAX_ATTACHED_BYTES`] named by hash only.
+    pub attached: bool,
+    #[serde(skip)]
+    pub data: Vec<u8>,
+}
+
+/// Name of the attached results model.
+pub const RESULTS_ATTACHMENT: &str = "seamlife-results.json";
+/// Folder of the attached project files inside the PDF's attachment names.
+pub const PROJECT_PREFIX: &str = "project/";
+/// Series and table files up to this size are attached; larger ones are named by hash.
+pub const MAX_ATTACHED_BYTES: u64 = 2 * 1024 * 1024;
+
+impl Attachment {
+    /// An input file, attached when small enough.
+    pub fn input(name: String, data: Vec<u8>, description: String, mime_type: &str) -> Attachment {
+        let bytes = data.len() as u64;
+        let attached = bytes <= MAX_ATTACHED_BYTES;
+        Attachment {
+            name,
+            description,
+            mime_type: mime_type.into(),
+            relationship: "source".into(),
+            sha256: crate::files::sha256_hex(&data),
+            bytes,
+            attached,
+            data: if attached { data } else { Vec::new() },
+        }
+    }
+
+    /// The results model as `assess --json` writes it.
+    pub fn results(r: &Results) -> Result<Attachment, Error> {
+        let mut data = Vec::new();
+        crate::cli::output::write_json(&mut data, r)
+            .map_err(|e| Error::Internal(format!("results model as JSON: {e}")))?;
+        Ok(Attachment {
+            name: RESULTS_ATTACHMENT.into(),
+            description:
+                "seamlife results model (assess --json); seamlife verify PACKAGE.pdf checks it"
+                    .into(),
+            mime_type: "application/json".into(),
+            relationship: "data".into(),
+            sha256: crate::files::sha256_hex(&data),
+            bytes: data.len() as u64,
+            attached: true,
+            data,
+        })
+    }
 }
 
 /// The generated files of one package, before compilation.
@@ -140,13 +207,24 @@ pub fn parse_epoch(t: &str) -> Result<i64, Error> {
 }
 
 /// Everything the templates see: the results model as `r`, plus file names of plots.
-/// `changes` holds the changes since an earlier revision (`null` without one).
+/// What the package shows besides the results model: the changes since an earlier
+/// revision, the checker's review and the files attached to the PDF.
+#[derive(Debug, Clone, Default)]
+pub struct Extras {
+    pub previous: Option<crate::checker::diff::DiffReport>,
+    pub review: Option<crate::checker::review::ReviewRecord>,
+    pub attachments: Vec<Attachment>,
+}
+
+/// `changes` holds the changes since an earlier revision (`null` without one),
+/// `review` the checker's review and `attachments` the attached files (from `extras`).
 pub fn template_context(
     r: &Results,
     plot_files: &PlotFiles,
     sheets: &Sheets,
     population: &Population,
     changes: Option<&changes::ChangesContext>,
+    extras: &Extras,
 ) -> Value {
     json!({
         "r": r,
@@ -154,6 +232,8 @@ pub fn template_context(
         "sheets": sheets,
         "population": population,
         "changes": changes,
+        "review": extras.review,
+        "attachments": extras.attachments,
         "meta": {
             "short_hash": &r.input.sha256[..r.input.sha256.len().min(12)],
             "typst_version": TYPST_VERSION,
@@ -236,15 +316,16 @@ pub fn build_files_for(
     template_dir: Option<&Path>,
     sheets: &Sheets,
 ) -> Result<BuildFiles, Error> {
-    build_files_with(r, template_dir, sheets, None)
+    build_files_with(r, template_dir, sheets, &Extras::default())
 }
 
-/// As [`build_files_for`], with the diff against an earlier revision.
+/// [`build_files_for`] with the diff against an earlier revision, the review and the
+/// attachments.
 pub fn build_files_with(
     r: &Results,
     template_dir: Option<&Path>,
     sheets: &Sheets,
-    previous: Option<&crate::checker::diff::DiffReport>,
+    extras: &Extras,
 ) -> Result<BuildFiles, Error> {
     let mut files: Vec<(String, Vec<u8>)> = Vec::new();
     let mut pf = PlotFiles {
@@ -311,9 +392,24 @@ pub fn build_files_with(
         }
         pf.details.push(comps);
     }
-    let changes = previous.map(changes::context);
-    let ctx = template_context(r, &pf, sheets, &population, changes.as_ref());
-    let main = templates::render(&ctx, template_dir)?;
+    let changes = extras.previous.as_ref().map(changes::context);
+    let ctx = template_context(r, &pf, sheets, &population, changes.as_ref(), extras);
+    let mut main = templates::render(&ctx, template_dir)?;
+    // The attachments are added after the templates, so a replaced template cannot
+    // drop them; each file's bytes come from the build folder.
+    main.push_str("\n// seamlife: attached files\n");
+    for (k, a) in extras.attachments.iter().filter(|a| a.attached).enumerate() {
+        let file = format!("attach/{k:04}.bin");
+        main.push_str(&format!(
+            "#pdf.attach({}, read({}, encoding: none), relationship: {}, mime-type: {}, description: {})\n",
+            templates::typst_string(&a.name),
+            templates::typst_string(&file),
+            templates::typst_string(&a.relationship),
+            templates::typst_string(&a.mime_type),
+            templates::typst_string(&a.description),
+        ));
+        files.push((file, a.data.clone()));
+    }
     files.push(("main.typ".into(), main.into_bytes()));
     files.push(("project.yaml".into(), r.input.text.clone().into_bytes()));
     Ok(BuildFiles { files })
@@ -355,11 +451,22 @@ pub fn prepare_report(r: &Results, opts: &ReportOptions) -> Result<typst::Compil
     // Refuse a bad output before the work of typesetting.
     crate::files::write::check_target(&out, &opts.inputs)?;
     let (indices, rule) = opts.sheets.select(r)?;
+    // PDF/A-2 cannot carry attachments (ISO 19005-2 6.8 allows only PDF/A files inside;
+    // typst refuses them there).
+    let extras = Extras {
+        previous: opts.previous.clone(),
+        review: opts.review.clone(),
+        attachments: if opts.pdf_a {
+            Vec::new()
+        } else {
+            opts.attachments.clone()
+        },
+    };
     let build = build_files_with(
         r,
         opts.templates.as_deref(),
         &Sheets::of(r, indices, rule),
-        opts.previous.as_ref(),
+        &extras,
     )?;
     if let Some(sig) = crate::files::cleanup::interrupted() {
         return Err(Error::Interrupted(sig));
