@@ -16,18 +16,30 @@ pub enum SchemaKind {
     Results,
     /// The diff model written by `diff --json`.
     Diff,
+    /// The checker's review file (YAML) of `report --review`.
+    Review,
 }
+
+/// The review file's schema, kept by hand beside the reader (`checker::review`): it
+/// also states the rules serde cannot (a query needs remarks); `tests/checker_review.rs`
+/// holds it to the demo review and to what the reader refuses.
+const REVIEW_SCHEMA: &str = include_str!("../schemas/review.schema.json");
 
 impl SchemaKind {
     /// Every kind, in the order `seamlife schema --help` lists them.
-    pub const ALL: &'static [SchemaKind] =
-        &[SchemaKind::Project, SchemaKind::Results, SchemaKind::Diff];
+    pub const ALL: &'static [SchemaKind] = &[
+        SchemaKind::Project,
+        SchemaKind::Results,
+        SchemaKind::Diff,
+        SchemaKind::Review,
+    ];
 
     pub fn name(self) -> &'static str {
         match self {
             SchemaKind::Project => "project",
             SchemaKind::Results => "results",
             SchemaKind::Diff => "diff",
+            SchemaKind::Review => "review",
         }
     }
 
@@ -47,6 +59,7 @@ impl SchemaKind {
                 crate::results::MODEL_VERSION
             ),
             SchemaKind::Diff => "seamlife diff model (diff --json)".into(),
+            SchemaKind::Review => "seamlife review file".into(),
         }
     }
 }
@@ -57,6 +70,8 @@ pub fn schema(kind: SchemaKind) -> Value {
         SchemaKind::Project => schemars::schema_for!(crate::input::schema::ProjectFile),
         SchemaKind::Results => schemars::schema_for!(crate::results::Results),
         SchemaKind::Diff => schemars::schema_for!(crate::checker::diff::DiffReport),
+        // kept by hand, with its own title
+        SchemaKind::Review => return serde_json::from_str(REVIEW_SCHEMA).unwrap_or(Value::Null),
     };
     let mut v = s.to_value();
     if let Value::Object(m) = &mut v {
@@ -67,6 +82,9 @@ pub fn schema(kind: SchemaKind) -> Value {
 
 /// The schema as pretty JSON with a final newline, as published.
 pub fn schema_text(kind: SchemaKind) -> String {
+    if kind == SchemaKind::Review {
+        return REVIEW_SCHEMA.to_string();
+    }
     let mut t = serde_json::to_string_pretty(&schema(kind)).unwrap_or_default();
     t.push('\n');
     t

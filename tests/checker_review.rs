@@ -458,3 +458,65 @@ fn package_from_a_results_model_attaches_inputs_found_beside_it() {
     let (code, stdout, err) = run(&[os("verify"), pdf2.as_os_str(), p.as_os_str()]);
     assert_eq!(code, 0, "{stdout}{err}");
 }
+
+#[test]
+fn a_diff_model_is_cited_as_evidence() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = project_copy(dir.path());
+    let hash = sha256_of(&p);
+    // the diff of the demo's revision A against revision B, as the checker ran it
+    let diff = dir.path().join("ab.diff.json");
+    let (code, _, err) = run(&[
+        os("diff"),
+        root()
+            .join("projects/kestrel-bay-runway-rev-a.yaml")
+            .as_os_str(),
+        p.as_os_str(),
+        os("--json"),
+        os("-o"),
+        diff.as_os_str(),
+    ]);
+    // exit 1: RG3-B01, added in revision B, fails
+    assert_eq!(code, 1, "{err}");
+    let rv = dir.path().join("rv.yaml");
+    std::fs::write(
+        &rv,
+        format!(
+            "{}evidence:\n  - file: ab.diff.json\n    sha256: {}\n    note: revision A against B\n",
+            review_text(&hash, "  - id: RG3-W01\n    verdict: accepted\n"),
+            sha256_of(&diff)
+        ),
+    )
+    .unwrap();
+    let (code, stdout, err) = run(&[os("assess"), p.as_os_str(), os("--review"), rv.as_os_str()]);
+    assert_eq!(code, 1, "{err}");
+    // the counts of the demo's revisions (README "Comparing revisions"): 2 added, 1 changed, 6 unchanged
+    assert!(
+        stdout.contains("kestrel-bay-runway-rev-a.yaml (rev A) compared with"),
+        "{stdout}"
+    );
+    assert!(
+        stdout
+            .contains("2 added, 0 removed, 1 changed, 6 unchanged details — status worse: RG3-B01"),
+        "{stdout}"
+    );
+    // a JSON file that is neither report is refused with its place
+    std::fs::write(dir.path().join("other.json"), "{\"a\": 1}").unwrap();
+    std::fs::write(
+        &rv,
+        format!(
+            "{}evidence:\n  - file: other.json\n    sha256: {}\n",
+            review_text(&hash, "  - id: RG3-W01\n    verdict: accepted\n"),
+            sha256_of(&dir.path().join("other.json"))
+        ),
+    )
+    .unwrap();
+    let (code, _, err) = run(&[os("assess"), p.as_os_str(), os("--review"), rv.as_os_str()]);
+    assert_eq!(code, 2);
+    assert!(
+        err.contains(
+            "neither a `seamlife verify --json` report nor a `seamlife diff --json` model"
+        ),
+        "{err}"
+    );
+}

@@ -46,7 +46,7 @@ fn demo_projects() -> Vec<PathBuf> {
 
 #[test]
 fn published_schemas_are_the_generated_ones() {
-    for kind in ["project", "results", "diff"] {
+    for kind in ["project", "results", "diff", "review"] {
         let (code, out, _) = run(&mut cmd(&["schema", kind]));
         assert_eq!(code, 0);
         let file = root().join(format!("schemas/{kind}.schema.json"));

@@ -126,7 +126,9 @@ pub struct EvidenceRecord {
     pub file: String,
     pub sha256: String,
     pub note: Option<String>,
-    /// `verify`.
+    /// `verify`, or `diff` (then `results_file` is the old side, `project_file` the new
+    /// one, `values_differing` the changed details and `inputs_differing` the project
+    /// changes).
     pub kind: String,
     /// The results model and project that were re-run.
     pub results_file: String,
@@ -532,6 +534,41 @@ pub fn check_review(
 }
 
 /// Read every cited verify report, confirm its hash and summarise it.
+/// What a cited `seamlife diff --json` model says: the two revisions compared, with
+/// which version, and the counts of the changes.
+fn diff_evidence(e: &EvidenceEntry, d: &super::diff::DiffReport) -> EvidenceRecord {
+    let side = |s: &super::diff::DiffSide| format!("{} (rev {})", s.file, s.revision);
+    let worse = if d.worse.is_empty() {
+        "no status worse".to_string()
+    } else {
+        format!("status worse: {}", d.worse.join(", "))
+    };
+    EvidenceRecord {
+        file: e.file.clone(),
+        sha256: e.sha256.clone(),
+        note: e.note.clone(),
+        kind: "diff".into(),
+        results_file: d.old.file.clone(),
+        project_file: d.new.file.clone(),
+        tool_version: d.tool_version.clone(),
+        rtol: 0.0,
+        agree: d.worse.is_empty(),
+        values_compared: 0,
+        values_differing: d.changed.len(),
+        inputs_differing: d.project.len(),
+        summary: format!(
+            "{} compared with {} by seamlife {}: {} added, {} removed, {} changed, {} unchanged details — {worse}",
+            side(&d.old),
+            side(&d.new),
+            d.tool_version,
+            d.added.len(),
+            d.removed.len(),
+            d.changed.len(),
+            d.unchanged
+        ),
+    }
+}
+
 fn read_evidence(review: &Review) -> Result<Vec<EvidenceRecord>, Vec<InputError>> {
     let dir = review.path.parent().unwrap_or(Path::new(""));
     let mut out = Vec::new();
@@ -579,19 +616,28 @@ fn read_evidence(review: &Review) -> Result<Vec<EvidenceRecord>, Vec<InputError>
             );
             continue;
         }
-        let report: super::verify::VerifyReport = match serde_json::from_str(&text) {
+        let verify: Result<super::verify::VerifyReport, _> = serde_json::from_str(&text);
+        let report = match verify {
             Ok(r) => r,
-            Err(err) => {
-                errors.push(
-                    InputError::new(
-                        InputErrorKind::WrongType,
-                        Location::at(&path, err.line().max(1), err.column().max(1)),
-                        format!("not a `seamlife verify --json` report: {err}"),
-                    )
-                    .hint("cite the JSON written by `seamlife verify RESULTS PROJECT --json`"),
-                );
-                continue;
-            }
+            Err(err) => match serde_json::from_str::<super::diff::DiffReport>(&text) {
+                Ok(d) => {
+                    out.push(diff_evidence(e, &d));
+                    continue;
+                }
+                Err(_) => {
+                    errors.push(
+                        InputError::new(
+                            InputErrorKind::WrongType,
+                            Location::at(&path, err.line().max(1), err.column().max(1)),
+                            format!(
+                                "neither a `seamlife verify --json` report nor a `seamlife diff --json` model: {err}"
+                            ),
+                        )
+                        .hint("cite the JSON written by `seamlife verify ... --json` or `seamlife diff OLD NEW --json`"),
+                    );
+                    continue;
+                }
+            },
         };
         let inputs_differing = report.inputs_differing();
         let summary = format!(
