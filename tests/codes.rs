@@ -397,3 +397,28 @@ fn crane_route_and_improvement_demos_assess() {
     assert_eq!(r.details[1].status, seamlife::results::Status::Pass);
     assert!((r.details[1].components[0].category_mpa - 104.0).abs() < 1e-12);
 }
+
+#[test]
+fn en_shear_studs_take_their_own_slope_m_8() {
+    // EN 1993-1-9 Table 8.5 shear studs: ΔτC = 80 MPa on m = 8 (from memory);
+    // γMf = 1.35 (Table 3.1, safe life, high consequence). 1e6 cycles of 40 MPa in
+    // one year: N = 2e6·(80/(1.35·40))^8 = 4.640874380e7, D = 2.154766361e-2
+    // (tests/tools/hand_worked.py, `stud`).
+    let stud = "    detail: shear-stud-shear
+    thickness_mm: 20
+    shear:
+      loading: [{event: e, per_year: 1, blocks: [{range_mpa: 40, cycles: 1.0e6}]}]";
+    let r = ok(&project("en1993-1-9", 1.0, "", stud));
+    let c = &r.details[0].components[0];
+    assert_eq!(c.component, "shear");
+    assert_hand(c.damage, 2.154766361e-2, "stud damage on m = 8");
+    // the same range on a shear detail of the ordinary m = 5 curve (Fig. 7.2):
+    // D = 1e6/(2e6·(80/(1.35·40))^5) = 7.006302246e-2 (hand_worked.py, `stud`)
+    let lap = stud.replace("shear-stud-shear", "lap-joint-fillet-shear");
+    let r = ok(&project("en1993-1-9", 1.0, "", &lap));
+    assert_hand(
+        r.details[0].components[0].damage,
+        7.006302246e-2,
+        "lap joint damage on m = 5",
+    );
+}

@@ -125,7 +125,7 @@ pub(super) fn component_setups<'a>(
         // (joint-classes/README.md, `curve_variant`).
         let entry_variant = match comp {
             Component::Normal => entry.and_then(|e| e.curve_variant.clone()),
-            Component::Shear => None,
+            Component::Shear => entry.and_then(|e| e.shear_curve_variant.clone()),
         };
         let (curve_variant, curve_from) = match (
             improvement.as_ref().and_then(|i| i.curve_variant.clone()),

@@ -425,6 +425,10 @@ pub struct CatalogueEntry {
     /// Absent: the normal curve of the project (main curve or its chosen variant).
     #[serde(default)]
     pub curve_variant: Option<String>,
+    /// Name of one of the family's `curves.shear.variants` whose segments replace the
+    /// shear-stress curve of every detail naming this entry (e.g. EN shear studs, m = 8).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub shear_curve_variant: Option<String>,
     /// This entry's own size rule (reference size and exponent), e.g. bolts with a
     /// reference diameter or tubular joints; replaces the family's reference thickness
     /// and the entry's `thickness_exponent`.
@@ -857,28 +861,42 @@ impl Family {
                     ));
                 }
             }
-            if let Some(v) = &e.curve_variant {
+            for (key, variant, comp, word) in [
+                (
+                    "curve_variant",
+                    &e.curve_variant,
+                    Component::Normal,
+                    "normal",
+                ),
+                (
+                    "shear_curve_variant",
+                    &e.shear_curve_variant,
+                    Component::Shear,
+                    "shear",
+                ),
+            ] {
+                let Some(v) = variant else { continue };
                 let names: Vec<&str> = self
                     .curves
-                    .normal
+                    .get(comp)
                     .variants
                     .keys()
                     .map(|k| k.as_str())
                     .collect();
-                if e.normal_category.is_none() {
+                if e.category(comp).is_none() {
                     return Err(FamilyProblem::new(
-                        ep.key("curve_variant"),
+                        ep.key(key),
                         format!(
-                            "catalogue entry `{}`: curve_variant acts on the normal-stress curve, but the entry gives no normal_category",
+                            "catalogue entry `{}`: {key} acts on the {word}-stress curve, but the entry gives no {word}_category",
                             e.key
                         ),
                     ));
                 }
                 if !names.contains(&v.as_str()) {
                     return Err(FamilyProblem::new(
-                        ep.key("curve_variant"),
+                        ep.key(key),
                         format!(
-                            "catalogue entry `{}`: curve_variant `{v}` is not one of curves.normal.variants ({})",
+                            "catalogue entry `{}`: {key} `{v}` is not one of curves.{word}.variants ({})",
                             e.key,
                             if names.is_empty() {
                                 "none defined".to_string()
@@ -1554,6 +1572,21 @@ mod tests {
                 "flat\n    mean_stress_case: non-welded\n  - key: hollow-seamless",
                 "catalogue[3].curve_variant",
                 "gives no normal_category",
+            ),
+            // A shear_curve_variant must name a shear variant, on a shear entry.
+            (
+                "    shear_curve_variant: stud      # Table 8.5: m = 8 (from memory)",
+                "    shear_curve_variant: studs",
+                "studs\n",
+                "shear_curve_variant",
+                "shear_curve_variant `studs` is not one of curves.shear.variants (stud)",
+            ),
+            (
+                "    description: \"Welded headed shear stud of a composite beam, shear range on the stud's nominal section\"\n    shear_category: 80\n",
+                "    description: \"Welded headed shear stud of a composite beam, shear range on the stud's nominal section\"\n    normal_category: 80\n",
+                "stud      #",
+                "shear_curve_variant",
+                "gives no shear_category",
             ),
         ] {
             assert_refused(EN, from, to, at, path, what);

@@ -157,6 +157,7 @@ pub fn extension(
         thickness_exponent: None,
         mean_stress_case: None,
         curve_variant: None,
+        shear_curve_variant: None,
         size_rule: None,
         category_letter: None,
     };

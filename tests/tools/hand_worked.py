@@ -357,6 +357,17 @@ def catalogues():
         p(f"IIW FAT {fat}: D over 20 years, 1e4 × 80 + 1e6 × 30", D(20) * (D(1e4) / n80 + D(1e6) / n30))
 
 
+
+def stud():
+    """EN 1993-1-9 Table 8.5 shear studs (m = 8, from memory) against the ordinary
+    shear curve (m = 5, Fig. 7.2): 1e6 cycles of 40 MPa, category 80, gamma_Mf 1.35."""
+    print("== tests/codes.rs, EN shear studs (values from memory)")
+    base = D(80) / (D("1.35") * D(40))
+    n8 = D(2) * D(10) ** 6 * base ** 8
+    p("EN stud: N on m = 8", n8)
+    p("EN stud: D on m = 8", D(10) ** 6 / n8)
+    p("EN lap joint shear: D on m = 5", D(10) ** 6 / (D(2) * D(10) ** 6 * base ** 5))
+
 if __name__ == "__main__":
     engine()
     curves()
@@ -367,3 +378,4 @@ if __name__ == "__main__":
     bs7608()
     aashto()
     catalogues()
+    stud()
