@@ -336,6 +336,7 @@ fn judgement_calls_are_stated() {
     assert!(j.contains("fully compressive cycle"), "{j}");
     assert!(j.contains("still damage"), "{j}");
     assert!(j.contains("normal stress only"), "{j}");
+    assert!(j.contains("at its own range and mean"), "{j}");
     assert!(r
         .basis
         .utilisation_rule

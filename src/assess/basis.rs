@@ -331,6 +331,6 @@ fn judgements(fam: &Family, basis: &ResolvedBasis) -> Vec<String> {
     out.push(
         "Mean-stress rules act on normal stress only; shear stress ranges count in full.".into(),
     );
-    out.push("Each range-mean cell of a counted record enters the damage sum at the largest range counted in it and its cycle-weighted mean, so every counted cycle is represented at or above its own range.".into());
+    out.push("Every cycle of a counted record enters the damage sum and the mean-stress rule at its own range and mean (EN 1993-1-9 A.6, term by term); the range-mean matrix is for display, and the reserve-factor and required-category searches take each of its cells at its largest range, which is conservative.".into());
     out
 }
