@@ -1,7 +1,7 @@
 //! Figures of the population of details: the distribution of utilisation, and the
 //! spread of utilisation by detail type or by group.
 
-use super::utilisation::{hatch, utilisation_axis};
+use super::utilisation::{status_fill, status_key, utilisation_axis};
 use super::*;
 use crate::report::population::{PopulationRow, UtilisationBin, TOP_BIN_FROM};
 
@@ -77,12 +77,7 @@ fn draw_distribution(root: &Area, bins: &[UtilisationBin], details: usize) -> Dr
             let top = base + count as f64;
             let a = chart.backend_coord(&(x0, top));
             let z = chart.backend_coord(&(x1, base));
-            let px = (a.0, a.1, z.0, z.1);
-            match status {
-                Status::Pass => root.draw(&Rectangle::new([(a.0, a.1), z], BAR.filled()))?,
-                Status::Fail => root.draw(&Rectangle::new([(a.0, a.1), z], DARK.filled()))?,
-                Status::OutsideMethod => hatch(root, px, 5)?,
-            }
+            status_fill(root, status, (a.0, a.1, z.0, z.1))?;
             root.draw(&Rectangle::new([(a.0, a.1), z], INK.stroke_width(1)))?;
             base = top;
         }
@@ -111,31 +106,7 @@ fn draw_distribution(root: &Area, bins: &[UtilisationBin], details: usize) -> Dr
         &font(11.0, HPos::Left, VPos::Top),
         (top.0 + 4, top.1 + 2),
     )?;
-    status_key(root, DISTRIBUTION_SIZE.0 as i32 - 330, 24)
-}
-
-/// The key of the three status fills, one line from (x, y).
-fn status_key(root: &Area, mut x: i32, y: i32) -> Drawn {
-    let key_font = font(11.0, HPos::Left, VPos::Center);
-    for (status, label) in [
-        (Status::Pass, "pass"),
-        (Status::Fail, "FAIL"),
-        (Status::OutsideMethod, "OUTSIDE METHOD"),
-    ] {
-        let r = (x, y - 5, x + 18, y + 5);
-        match status {
-            Status::Pass => root.draw(&Rectangle::new([(r.0, r.1), (r.2, r.3)], BAR.filled()))?,
-            Status::Fail => root.draw(&Rectangle::new([(r.0, r.1), (r.2, r.3)], DARK.filled()))?,
-            Status::OutsideMethod => hatch(root, r, 5)?,
-        }
-        root.draw(&Rectangle::new(
-            [(r.0, r.1), (r.2, r.3)],
-            INK.stroke_width(1),
-        ))?;
-        root.draw_text(label, &key_font, (x + 23, y))?;
-        x += 23 + text_width(label, 11.0) + 14;
-    }
-    Ok(())
+    status_key(root, DISTRIBUTION_SIZE.0 as i32 - 350, 24).map(|_| ())
 }
 
 const ROW_TOP: u32 = 50;

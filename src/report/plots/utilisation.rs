@@ -218,29 +218,44 @@ pub(super) fn draw_utilisation(
 
     // Key.
     let ky = lay.height as i32 - 12;
-    let mut kx = lay.label_w as i32 + 6;
+    let kx = status_key(root, lay.label_w as i32 + 6, ky)?;
+    let key_font = font(11.0, HPos::Left, VPos::Center);
+    draw_sample(root, Sample::Limit, (kx + 11, ky - 9), (kx + 11, ky + 9))?;
+    root.draw_text("limit", &key_font, (kx + 20, ky))?;
+    Ok(())
+}
+
+/// The fill of a status: pass light grey, fail dark grey, outside the method hatched.
+pub(super) fn status_fill(root: &Area, status: Status, (x0, y0, x1, y1): PxBox) -> Drawn {
+    match status {
+        Status::Pass => root.draw(&Rectangle::new([(x0, y0), (x1, y1)], BAR.filled())),
+        Status::Fail => root.draw(&Rectangle::new([(x0, y0), (x1, y1)], DARK.filled())),
+        Status::OutsideMethod => hatch(root, (x0, y0, x1, y1), 5),
+    }
+}
+
+/// The key of the three status fills on one line from (x, y); returns where it ends.
+pub(super) fn status_key(
+    root: &Area,
+    mut x: i32,
+    y: i32,
+) -> Result<i32, DrawingAreaErrorKind<std::io::Error>> {
     let key_font = font(11.0, HPos::Left, VPos::Center);
     for (status, label) in [
         (Status::Pass, "pass"),
         (Status::Fail, "FAIL"),
         (Status::OutsideMethod, "OUTSIDE METHOD"),
     ] {
-        let r = (kx, ky - 5, kx + 22, ky + 5);
-        match status {
-            Status::Pass => root.draw(&Rectangle::new([(r.0, r.1), (r.2, r.3)], BAR.filled()))?,
-            Status::Fail => root.draw(&Rectangle::new([(r.0, r.1), (r.2, r.3)], DARK.filled()))?,
-            Status::OutsideMethod => hatch(root, r, 5)?,
-        }
+        let r = (x, y - 5, x + 22, y + 5);
+        status_fill(root, status, r)?;
         root.draw(&Rectangle::new(
             [(r.0, r.1), (r.2, r.3)],
             INK.stroke_width(1),
         ))?;
-        root.draw_text(label, &key_font, (kx + 28, ky))?;
-        kx += 28 + text_width(label, 11.0) + 20;
+        root.draw_text(label, &key_font, (x + 28, y))?;
+        x += 28 + text_width(label, 11.0) + 20;
     }
-    draw_sample(root, Sample::Limit, (kx + 11, ky - 9), (kx + 11, ky + 9))?;
-    root.draw_text("limit", &key_font, (kx + 20, ky))?;
-    Ok(())
+    Ok(x)
 }
 
 /// Diagonal hatching at 45° inside a pixel rectangle (x0, y0, x1, y1), `gap` px apart.
