@@ -1,7 +1,7 @@
 //! Figures of the population of details: the distribution of utilisation, and the
 //! spread of utilisation by detail type or by group.
 
-use super::utilisation::{status_fill, status_key, utilisation_axis};
+use super::utilisation::{row_centres, row_label, status_fill, status_key, utilisation_ticks};
 use super::*;
 use crate::report::population::{PopulationRow, UtilisationBin, TOP_BIN_FROM};
 
@@ -146,12 +146,8 @@ fn draw_spread(root: &Area, title: &str, rows: &[PopulationRow], size: (u32, u32
         .map(|r| r.max_utilisation)
         .filter(|u| u.is_finite())
         .fold(0.0, f64::max);
-    let (x_max, step) = utilisation_axis(max_u);
-    let per_unit = (1.0 / step).round();
-    let ticks: Vec<f64> = (0..=((x_max * per_unit).round() as usize))
-        .map(|i| i as f64 / per_unit)
-        .collect();
-    let centres: Vec<f64> = (0..n).map(|i| n as f64 - i as f64 - 0.5).collect();
+    let (x_max, ticks) = utilisation_ticks(max_u);
+    let centres = row_centres(n);
     let mut chart = ChartBuilder::on(root)
         .margin_top(ROW_TOP)
         .margin_bottom(ROW_BOTTOM - 44)
@@ -164,14 +160,7 @@ fn draw_spread(root: &Area, title: &str, rows: &[PopulationRow], size: (u32, u32
             Linear::new(0.0, n as f64, centres.clone()),
         )?;
     let x_fmt = |v: &f64| fmt_fixed(*v, 1);
-    let y_fmt = |v: &f64| {
-        let i = (n as f64 - v - 0.5).round();
-        if i >= 0.0 {
-            labels.get(i as usize).cloned().unwrap_or_default()
-        } else {
-            String::new()
-        }
-    };
+    let y_fmt = |v: &f64| row_label(&labels, n, *v);
     chart
         .configure_mesh()
         .disable_y_mesh()

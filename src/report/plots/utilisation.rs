@@ -102,12 +102,8 @@ pub(super) fn draw_utilisation(
         .map(|d| d.utilisation)
         .filter(|u| u.is_finite())
         .fold(0.0, f64::max);
-    let (x_max, step) = utilisation_axis(max_u);
-    let per_unit = (1.0 / step).round();
-    let ticks: Vec<f64> = (0..=((x_max * per_unit).round() as usize))
-        .map(|i| i as f64 / per_unit)
-        .collect();
-    let centres: Vec<f64> = (0..n).map(|i| n as f64 - i as f64 - 0.5).collect();
+    let (x_max, ticks) = utilisation_ticks(max_u);
+    let centres = row_centres(n);
 
     let mut chart = ChartBuilder::on(root)
         .margin_top(BAR_TOP)
@@ -121,14 +117,7 @@ pub(super) fn draw_utilisation(
             Linear::new(0.0, n as f64, centres.clone()),
         )?;
     let x_fmt = |v: &f64| fmt_fixed(*v, 1);
-    let y_fmt = |v: &f64| {
-        let i = (n as f64 - v - 0.5).round();
-        if i >= 0.0 {
-            lay.labels.get(i as usize).cloned().unwrap_or_default()
-        } else {
-            String::new()
-        }
-    };
+    let y_fmt = |v: &f64| row_label(&lay.labels, n, *v);
     chart
         .configure_mesh()
         .disable_y_mesh()
@@ -223,6 +212,31 @@ pub(super) fn draw_utilisation(
     draw_sample(root, Sample::Limit, (kx + 11, ky - 9), (kx + 11, ky + 9))?;
     root.draw_text("limit", &key_font, (kx + 20, ky))?;
     Ok(())
+}
+
+/// The utilisation axis for bars up to `max_u`: its end and its tick values.
+pub(super) fn utilisation_ticks(max_u: f64) -> (f64, Vec<f64>) {
+    let (x_max, step) = utilisation_axis(max_u);
+    let per_unit = (1.0 / step).round();
+    let ticks = (0..=((x_max * per_unit).round() as usize))
+        .map(|i| i as f64 / per_unit)
+        .collect();
+    (x_max, ticks)
+}
+
+/// Centres of `n` rows on a 0..n axis, the first row on top.
+pub(super) fn row_centres(n: usize) -> Vec<f64> {
+    (0..n).map(|i| n as f64 - i as f64 - 0.5).collect()
+}
+
+/// The label of the row whose centre is `v` on a 0..n axis (empty between rows).
+pub(super) fn row_label(labels: &[String], n: usize, v: f64) -> String {
+    let i = (n as f64 - v - 0.5).round();
+    if i >= 0.0 {
+        labels.get(i as usize).cloned().unwrap_or_default()
+    } else {
+        String::new()
+    }
 }
 
 /// The fill of a status: pass light grey, fail dark grey, outside the method hatched.
