@@ -45,31 +45,8 @@ pub fn read_results(path: &Path) -> Result<Results, InputError> {
     // A cheap look at the version first: a model of another version fails with a
     // plain message instead of the first field that no longer fits.
     let results: Results = serde_json::from_reader(reader).map_err(|e| {
-        let kind = if e.is_syntax() || e.is_eof() {
-            InputErrorKind::Syntax
-        } else {
-            InputErrorKind::WrongType
-        };
-        let loc = if e.line() > 0 {
-            Location::at(path, e.line(), e.column())
-        } else {
-            Location::file(path)
-        };
-        let text = e.to_string();
-        // serde_json appends " at line L column C"; the location already says it
-        let message = match text.rfind(" at line ") {
-            Some(i) => text[..i].to_string(),
-            None => text,
-        };
-        InputError::new(
-            kind,
-            loc,
-            format!(
-                "not a seamlife results model: {}",
-                crate::files::text::one_line(&message)
-            ),
-        )
-        .hint("give the JSON written by `seamlife assess --json` (with --shard K/N for a part)")
+        crate::files::json_error(path, &e, "not a seamlife results model")
+            .hint("give the JSON written by `seamlife assess --json` (with --shard K/N for a part)")
     })?;
     if !READABLE_MODEL_VERSIONS.contains(&results.model_version) {
         return Err(InputError::new(

@@ -152,6 +152,30 @@ pub fn read_text_bounded(
     })
 }
 
+/// A JSON parse error of `path` at the line and column serde_json reports, its message
+/// led by `what` (e.g. "not a seamlife results model").
+pub(crate) fn json_error(path: &Path, e: &serde_json::Error, what: &str) -> InputError {
+    let kind = if e.is_syntax() || e.is_eof() {
+        InputErrorKind::Syntax
+    } else if e.to_string().starts_with("unknown field") {
+        InputErrorKind::UnknownKey
+    } else {
+        InputErrorKind::WrongType
+    };
+    let loc = if e.line() > 0 {
+        Location::at(path, e.line(), e.column())
+    } else {
+        Location::file(path)
+    };
+    let text = e.to_string();
+    // serde_json appends " at line L column C"; the location already says it
+    let message = match text.rfind(" at line ") {
+        Some(i) => &text[..i],
+        None => &text,
+    };
+    InputError::new(kind, loc, format!("{what}: {}", text::one_line(message)))
+}
+
 /// A located error for a file that cannot be read, with a hint by the kind of failure.
 pub(crate) fn io_error(path: &Path, e: &std::io::Error) -> InputError {
     let hint = match e.kind() {

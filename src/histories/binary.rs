@@ -7,7 +7,9 @@
 
 use std::fs::File;
 
-use crate::histories::ingest::{run_blocks, BlockOut, ChannelCount, Fallback, Part, Source, Start};
+use crate::histories::ingest::{
+    open_blocks, run_blocks, BlockOut, ChannelCount, Fallback, OpenChannel, Part, Source, Start,
+};
 use crate::histories::series::{
     ColumnRef, CountOptions, SeriesError, SeriesSpec, MAX_SERIES_STRESS_MPA,
 };
@@ -355,12 +357,42 @@ pub fn count_binary(
     block_bytes: usize,
     progress: &dyn Fn(u64, u64),
 ) -> Result<Vec<ChannelCount>, SeriesError> {
+    let file = crate::histories::ingest::open_series(spec)?;
+    let (job, names) = plan(spec, &file, format, channels, opts, block_bytes)?;
+    Ok(run_blocks(spec, &job, &names, opts, 1, progress, &[])?
+        .ok_or_else(|| bad(spec, "internal: a binary block asked for the text reader"))?
+        .into_iter()
+        .map(|(c, _)| c)
+        .collect())
+}
+
+/// [`count_binary`] as a piece of a longer record (see [`crate::histories::part`]):
+/// each channel's count with its residue left open.
+pub fn count_binary_open(
+    spec: &SeriesSpec,
+    format: BinaryFormat,
+    channels: Option<&[ColumnRef]>,
+    opts: &CountOptions,
+    block_bytes: usize,
+    progress: &dyn Fn(u64, u64),
+) -> Result<Vec<OpenChannel>, SeriesError> {
+    let file = crate::histories::ingest::open_series(spec)?;
+    let (job, names) = plan(spec, &file, format, channels, opts, block_bytes)?;
+    open_blocks(spec, &job, &names, opts, progress)?
+        .ok_or_else(|| bad(spec, "internal: a binary block asked for the text reader"))
+}
+
+/// The job of counting `channels` of the record, and each channel's name and number.
+fn plan<'a>(
+    spec: &'a SeriesSpec,
+    file: &'a File,
+    format: BinaryFormat,
+    channels: Option<&[ColumnRef]>,
+    opts: &CountOptions,
+    block_bytes: usize,
+) -> Result<(Job<'a>, Vec<(String, usize)>), SeriesError> {
     let factor = crate::histories::ingest::check_request(spec, opts)?;
-    let file = crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
-        path: spec.path.clone(),
-        source,
-    })?;
-    let l = layout(spec, &file, format)?;
+    let l = layout(spec, file, format)?;
     let chans: Vec<usize> = match channels {
         None => (0..l.channels).collect(),
         Some(refs) => {
@@ -399,7 +431,7 @@ pub fn count_binary(
     let row_bytes = (l.channels * l.width) as u64;
     let job = Job {
         spec,
-        file: &file,
+        file,
         layout: l,
         chans: chans.clone(),
         factor,
@@ -410,9 +442,5 @@ pub fn count_binary(
         .iter()
         .map(|&c| ((c + 1).to_string(), c + 1))
         .collect();
-    Ok(run_blocks(spec, &job, &names, opts, 1, progress, &[])?
-        .ok_or_else(|| bad(spec, "internal: a binary block asked for the text reader"))?
-        .into_iter()
-        .map(|(c, _)| c)
-        .collect())
+    Ok((job, names))
 }

@@ -25,6 +25,7 @@ use rayon::prelude::*;
 
 use crate::files::csvlines::{parse_f64, parse_f64_prefix, CsvLines, LineError, Row};
 use crate::histories::damage::{add_cycle, DamageTally, SharedRule};
+use crate::histories::part::OpenCount;
 use crate::histories::rainflow::{Cycle, RainflowCounter};
 use crate::histories::series::{
     cell_text, counted_series, resolve_column, Column, ColumnRef, CountOptions, CountedSeries,
@@ -578,13 +579,62 @@ fn at_line(mut e: SeriesError, n: u64) -> SeriesError {
 }
 
 /// The whole count of one channel, built block by block in file order.
-struct Total {
-    counter: RainflowCounter,
-    spectrum: Spectrum,
+pub(crate) struct Total {
+    pub(crate) open: OpenCount,
     tallies: Vec<DamageTally>,
     rules: Vec<SharedRule>,
-    moments: Moments,
-    samples: u64,
+}
+
+impl OpenCount {
+    /// Append the block part `p`, which follows this count in the record: its own
+    /// cycles (binned in its spectrum) merged, the cycles across the seam binned here
+    /// and given to `extra`.
+    pub(crate) fn take_block<F: FnMut(&Cycle)>(
+        &mut self,
+        p: Part,
+        mut extra: F,
+    ) -> Result<(), SeriesError> {
+        if p.samples == 0 {
+            return Ok(());
+        }
+        let spectrum = &mut self.spectrum;
+        let mut sink = |c: Cycle| {
+            spectrum.add(&c);
+            extra(&c)
+        };
+        match (&mut self.counter, p.counter) {
+            (Some(t), Some(c)) => t.append_part(c, p.first, p.first_move, &mut sink),
+            (Some(t), None) => t.push_slice(&p.values, &mut sink),
+            // the first block of a piece: its count is the piece's so far
+            (None, Some(c)) => self.counter = Some(c),
+            (None, None) => {
+                let mut c = RainflowCounter::part_from(p.first);
+                c.push_slice(&p.values[1..], &mut sink);
+                self.counter = Some(c);
+            }
+        }
+        self.spectrum.merge(&p.spectrum)?;
+        self.moments.merge(&p.moments);
+        self.note_start(p.first, p.first_move);
+        self.samples += p.samples;
+        Ok(())
+    }
+}
+
+impl Total {
+    fn take(&mut self, mut p: Part) -> Result<(), SeriesError> {
+        let theirs = std::mem::take(&mut p.tallies);
+        let (tallies, rules) = (&mut self.tallies, &self.rules[..]);
+        self.open.take_block(p, |c| {
+            for (t, r) in tallies.iter_mut().zip(rules) {
+                t.add(&**r, c);
+            }
+        })?;
+        for (a, b) in self.tallies.iter_mut().zip(&theirs) {
+            a.merge(b)?;
+        }
+        Ok(())
+    }
 }
 
 /// The factor from file values to MPa, once the options are checked (before any file
@@ -631,12 +681,96 @@ pub fn count_channels_rated(
     rules: &[Vec<SharedRule>],
 ) -> Result<Vec<RatedCount>, SeriesError> {
     let factor = check_request(spec, opts)?;
-    let file = crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
+    let file = open_series(spec)?;
+    let Some(plan) = plan(spec, channels, &file)? else {
+        return reference(spec, channels, opts, rules);
+    };
+    let job = plan.job(spec, &file, factor, opts, ingest);
+    match run_blocks(
+        spec,
+        &job,
+        &plan.names,
+        opts,
+        plan.layout.first_line,
+        progress,
+        rules,
+    )? {
+        Some(v) => Ok(v),
+        None => reference(spec, channels, opts, rules),
+    }
+}
+
+/// Count the channels of a CSV record as a piece of a longer record (see
+/// [`crate::histories::part`]): each channel's count with its residue left open.
+pub fn count_channels_open(
+    spec: &SeriesSpec,
+    channels: &Channels,
+    opts: &CountOptions,
+    ingest: Ingest,
+    progress: &dyn Fn(u64, u64),
+) -> Result<Vec<OpenChannel>, SeriesError> {
+    let factor = check_request(spec, opts)?;
+    let file = open_series(spec)?;
+    let Some(plan) = plan(spec, channels, &file)? else {
+        return reference_open(spec, channels, opts);
+    };
+    let job = plan.job(spec, &file, factor, opts, ingest);
+    match open_blocks(spec, &job, &plan.names, opts, progress)? {
+        Some(v) => Ok(v),
+        None => reference_open(spec, channels, opts),
+    }
+}
+
+/// Open the series file (regular files only).
+pub(crate) fn open_series(spec: &SeriesSpec) -> Result<File, SeriesError> {
+    crate::files::open_regular(&spec.path).map_err(|source| SeriesError::Open {
         path: spec.path.clone(),
         source,
-    })?;
-    let Some(layout) = layout(spec, &file)? else {
-        return reference(spec, channels, opts, rules);
+    })
+}
+
+/// The file's layout and the columns to count.
+struct Plan {
+    layout: Layout,
+    cols: Vec<Column>,
+    /// (name, 1-based position) of each channel.
+    names: Vec<(String, usize)>,
+}
+
+impl Plan {
+    fn job<'a>(
+        &'a self,
+        spec: &'a SeriesSpec,
+        file: &'a File,
+        factor: f64,
+        opts: &'a CountOptions,
+        ingest: Ingest,
+    ) -> Job<'a> {
+        let mut order: Vec<(usize, usize)> = self
+            .cols
+            .iter()
+            .enumerate()
+            .map(|(i, c)| (c.pos, i))
+            .collect();
+        order.sort_unstable();
+        Job {
+            spec,
+            file,
+            layout: &self.layout,
+            cols: &self.cols,
+            order,
+            factor,
+            opts,
+            block_bytes: ingest.block_bytes.max(1) as u64,
+        }
+    }
+}
+
+/// Read the layout and resolve the columns; `None` hands the file to the reference
+/// reader.
+fn plan(spec: &SeriesSpec, channels: &Channels, file: &File) -> Result<Option<Plan>, SeriesError> {
+    let Some(layout) = layout(spec, file)? else {
+        return Ok(None);
     };
     let refs: Vec<ColumnRef> = match channels {
         Channels::These(v) => v.clone(),
@@ -670,27 +804,16 @@ pub fn count_channels_rated(
         }
         cols.push(c);
     }
-    let mut order: Vec<(usize, usize)> = cols.iter().enumerate().map(|(i, c)| (c.pos, i)).collect();
-    order.sort_unstable();
-    let job = Job {
-        spec,
-        file: &file,
-        layout: &layout,
-        cols: &cols,
-        order,
-        factor,
-        opts,
-        block_bytes: ingest.block_bytes.max(1) as u64,
-    };
     let names: Vec<(String, usize)> = cols
         .iter()
         .zip(&refs)
         .map(|(c, r)| (channel_name(&layout.headers, c.pos, r), c.pos + 1))
         .collect();
-    match run_blocks(spec, &job, &names, opts, layout.first_line, progress, rules)? {
-        Some(v) => Ok(v),
-        None => reference(spec, channels, opts, rules),
-    }
+    Ok(Some(Plan {
+        layout,
+        cols,
+        names,
+    }))
 }
 
 /// Count the blocks of `src` wave by wave on all cores and merge them in order; the
@@ -705,20 +828,106 @@ pub(crate) fn run_blocks(
     progress: &dyn Fn(u64, u64),
     rules: &[Vec<SharedRule>],
 ) -> Result<Option<Vec<RatedCount>>, SeriesError> {
-    let mut totals = Vec::with_capacity(names.len());
-    for i in 0..names.len() {
+    let Some(totals) = merge_blocks(src, names.len(), opts, first_line, progress, rules, false)?
+    else {
+        return Ok(None);
+    };
+    let mut out = Vec::with_capacity(names.len());
+    for (t, (name, position)) in totals.into_iter().zip(names) {
+        if t.open.samples < 2 {
+            return Err(SeriesError::TooShort {
+                path: spec.path.clone(),
+                samples: t.open.samples,
+            });
+        }
+        let (mut tallies, rules) = (t.tallies, t.rules);
+        let (stats, spectrum, moments) = t.open.finish(opts.mode, |c| {
+            for (d, r) in tallies.iter_mut().zip(&rules) {
+                d.add(&**r, c);
+            }
+        });
+        for d in &mut tallies {
+            d.align(&spectrum)?;
+        }
+        out.push((
+            ChannelCount {
+                name: name.clone(),
+                position: *position,
+                counted: counted_series(stats, &spectrum, &moments),
+            },
+            tallies,
+        ));
+    }
+    Ok(Some(out))
+}
+
+/// One channel counted as a piece of a longer record (see [`crate::histories::part`]).
+#[derive(Clone, Debug)]
+pub struct OpenChannel {
+    /// The column as named in the header, or its 1-based number.
+    pub name: String,
+    /// 1-based position in the file.
+    pub position: usize,
+    /// The count, its residue not closed.
+    pub open: OpenCount,
+}
+
+/// [`run_blocks`] for pieces: each channel's count left open.
+pub(crate) fn open_blocks(
+    spec: &SeriesSpec,
+    src: &dyn Source,
+    names: &[(String, usize)],
+    opts: &CountOptions,
+    progress: &dyn Fn(u64, u64),
+) -> Result<Option<Vec<OpenChannel>>, SeriesError> {
+    let Some(totals) = merge_blocks(src, names.len(), opts, 1, progress, &[], true)? else {
+        return Ok(None);
+    };
+    let mut out = Vec::with_capacity(names.len());
+    for (t, (name, position)) in totals.into_iter().zip(names) {
+        if t.open.samples == 0 {
+            return Err(SeriesError::Empty {
+                path: spec.path.clone(),
+            });
+        }
+        out.push(OpenChannel {
+            name: name.clone(),
+            position: *position,
+            open: t.open,
+        });
+    }
+    Ok(Some(out))
+}
+
+/// The blocks of `src` counted and merged in order, each channel's count left open
+/// (as a piece with `piece`, else as a whole record).
+fn merge_blocks(
+    src: &dyn Source,
+    channels: usize,
+    opts: &CountOptions,
+    first_line: u64,
+    progress: &dyn Fn(u64, u64),
+    rules: &[Vec<SharedRule>],
+    piece: bool,
+) -> Result<Option<Vec<Total>>, SeriesError> {
+    let mut totals = Vec::with_capacity(channels);
+    for i in 0..channels {
         let spectrum = Spectrum::new(opts.bins)?;
+        RainflowCounter::try_new(opts.gate_mpa)?;
         let rules = rules.get(i).cloned().unwrap_or_default();
+        let tallies = rules
+            .iter()
+            .map(|r| DamageTally::new(&**r, &spectrum))
+            .collect();
+        let open = if piece {
+            OpenCount::piece(opts.gate_mpa, spectrum)
+        } else {
+            OpenCount::record(opts.gate_mpa, spectrum)
+        };
         totals.push(Total {
-            counter: RainflowCounter::try_new(opts.gate_mpa)?,
-            tallies: rules
-                .iter()
-                .map(|r| DamageTally::new(&**r, &spectrum))
-                .collect(),
-            spectrum,
+            open,
+            tallies,
             rules,
-            moments: Moments::default(),
-            samples: 0,
         });
     }
     let blocks = src.blocks();
@@ -730,7 +939,7 @@ pub(crate) fn run_blocks(
         let starts: Vec<Start> = totals
             .iter()
             .map(|t| Start {
-                spectrum: t.spectrum.empty_like(),
+                spectrum: t.open.spectrum.empty_like(),
                 tallies: t.tallies.iter().map(DamageTally::empty_like).collect(),
                 rules: t.rules.clone(),
             })
@@ -748,52 +957,14 @@ pub(crate) fn run_blocks(
             }
             line += out.lines;
             for (t, p) in totals.iter_mut().zip(out.parts) {
-                if p.samples == 0 {
-                    continue;
-                }
-                t.samples += p.samples;
-                t.moments.merge(&p.moments);
-                let (spectrum, tallies, rules) = (&mut t.spectrum, &mut t.tallies, &t.rules[..]);
-                let mut sink = |c: Cycle| add_cycle(spectrum, tallies, rules, &c);
-                match p.counter {
-                    Some(c) => t.counter.append_part(c, p.first, p.first_move, &mut sink),
-                    None => t.counter.push_slice(&p.values, &mut sink),
-                }
-                t.spectrum.merge(&p.spectrum)?;
-                for (a, b) in t.tallies.iter_mut().zip(&p.tallies) {
-                    a.merge(b)?;
-                }
+                t.take(p)?;
             }
         }
         k = k1;
         let (done, total) = src.done_bytes(k);
         progress(done, total);
     }
-    let mut out = Vec::with_capacity(names.len());
-    for (t, (name, position)) in totals.into_iter().zip(names) {
-        if t.samples < 2 {
-            return Err(SeriesError::TooShort {
-                path: spec.path.clone(),
-                samples: t.samples,
-            });
-        }
-        let (mut spectrum, mut tallies) = (t.spectrum, t.tallies);
-        let stats = t.counter.finish(opts.mode, &mut |c: Cycle| {
-            add_cycle(&mut spectrum, &mut tallies, &t.rules, &c)
-        });
-        for d in &mut tallies {
-            d.align(&spectrum)?;
-        }
-        out.push((
-            ChannelCount {
-                name: name.clone(),
-                position: *position,
-                counted: counted_series(stats, &spectrum, &t.moments),
-            },
-            tallies,
-        ));
-    }
-    Ok(Some(out))
+    Ok(Some(totals))
 }
 
 fn channel_name(headers: &[String], pos: usize, r: &ColumnRef) -> String {
@@ -811,6 +982,79 @@ fn reference(
     opts: &CountOptions,
     rules: &[Vec<SharedRule>],
 ) -> Result<Vec<RatedCount>, SeriesError> {
+    let none = Vec::new();
+    let counts = reference_each(spec, channels, |i, s| {
+        crate::histories::series::count_series_reference_rated(
+            s,
+            opts,
+            rules.get(i).unwrap_or(&none),
+        )
+    })?;
+    Ok(counts
+        .into_iter()
+        .map(|(name, position, (counted, tallies))| {
+            (
+                ChannelCount {
+                    name,
+                    position,
+                    counted,
+                },
+                tallies,
+            )
+        })
+        .collect())
+}
+
+/// The reference reader for pieces (see [`count_channels_open`]).
+fn reference_open(
+    spec: &SeriesSpec,
+    channels: &Channels,
+    opts: &CountOptions,
+) -> Result<Vec<OpenChannel>, SeriesError> {
+    let gate = opts.gate_mpa != 0.0;
+    let counts = reference_each(spec, channels, |_, s| {
+        let mut open = OpenCount::piece(opts.gate_mpa, Spectrum::new(opts.bins)?);
+        let mut failed = None;
+        crate::histories::series::stream_series(s, |xs| {
+            let start = Start {
+                spectrum: open.spectrum.empty_like(),
+                tallies: Vec::new(),
+                rules: Vec::new(),
+            };
+            let mut part = Part::new(&start);
+            for &x in xs {
+                part.push(x, gate);
+            }
+            part.flush(gate);
+            if let Err(e) = open.take_block(part, |_| {}) {
+                failed.get_or_insert(e);
+            }
+        })?;
+        match failed {
+            Some(e) => Err(e),
+            None if open.samples == 0 => Err(SeriesError::Empty {
+                path: spec.path.clone(),
+            }),
+            None => Ok(open),
+        }
+    })?;
+    Ok(counts
+        .into_iter()
+        .map(|(name, position, open)| OpenChannel {
+            name,
+            position,
+            open,
+        })
+        .collect())
+}
+
+/// Each chosen channel counted by `one` (given its index and a spec for its column),
+/// with its name and 1-based position.
+fn reference_each<T>(
+    spec: &SeriesSpec,
+    channels: &Channels,
+    mut one: impl FnMut(usize, &SeriesSpec) -> Result<T, SeriesError>,
+) -> Result<Vec<(String, usize, T)>, SeriesError> {
     let refs: Vec<ColumnRef> = match channels {
         Channels::These(v) => v.clone(),
         Channels::All => {
@@ -829,24 +1073,12 @@ fn reference(
             column: r.clone(),
             ..spec.clone()
         };
-        let none = Vec::new();
-        let (counted, tallies) = crate::histories::series::count_series_reference_rated(
-            &s,
-            opts,
-            rules.get(i).unwrap_or(&none),
-        )?;
+        let counted = one(i, &s)?;
         let pos = match &r {
             ColumnRef::Index(i) => i - 1,
             ColumnRef::Name(n) => names.iter().position(|h| h == n.trim()).unwrap_or(0),
         };
-        out.push((
-            ChannelCount {
-                name: channel_name(&names, pos, &r),
-                position: pos + 1,
-                counted,
-            },
-            tallies,
-        ));
+        out.push((channel_name(&names, pos, &r), pos + 1, counted));
     }
     Ok(out)
 }

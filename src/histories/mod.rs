@@ -5,6 +5,7 @@
 pub mod binary;
 pub mod damage;
 pub mod ingest;
+pub mod part;
 pub mod rainflow;
 pub mod series;
 pub mod spectrum;

@@ -29,7 +29,7 @@
 //! from its highest peak round to the same peak, the rule of ASTM E1049-85
 //! §5.4.5 for repeating histories, so every cycle comes out as a full cycle.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::hint::select_unpredictable;
 
 /// One counted cycle (or half cycle).
@@ -751,6 +751,88 @@ impl RainflowCounter {
             max,
         }
     }
+}
+
+/// A counter between two samples, as a spectrum part saves it: the detector's state
+/// and the residue. [`RainflowCounter::from_state`] gives back a counter that goes on
+/// exactly as the saved one would.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct CounterState {
+    /// Hysteresis gate, MPa.
+    pub gate_mpa: f64,
+    /// Samples pushed.
+    pub samples: u64,
+    /// Reversals emitted so far.
+    pub reversals: u64,
+    /// Full cycles closed so far.
+    pub full_cycles: u64,
+    /// Gate 0: the last sample; gate > 0: the current candidate extreme, MPa.
+    pub last_mpa: f64,
+    /// Gate 0: the last non-zero first difference, MPa (0 while the signal has not
+    /// moved); gate > 0: +1 rising, -1 falling, 0 while not yet beyond the gate.
+    pub direction: f64,
+    /// Smallest sample or reversal tracked by the detector, MPa.
+    pub min_mpa: f64,
+    /// Largest sample or reversal tracked by the detector, MPa.
+    pub max_mpa: f64,
+    /// The reversals not yet closed into full cycles, in signal order, MPa.
+    pub residue_mpa: Vec<f64>,
+}
+
+impl RainflowCounter {
+    /// The counter's state, to be saved.
+    pub fn state(&self) -> CounterState {
+        CounterState {
+            gate_mpa: self.tp.gate,
+            samples: self.tp.samples,
+            reversals: self.tp.emitted,
+            full_cycles: self.full,
+            last_mpa: self.tp.prev,
+            direction: self.tp.dir,
+            min_mpa: self.tp.min,
+            max_mpa: self.tp.max,
+            residue_mpa: self.stack.clone(),
+        }
+    }
+
+    /// A counter in a saved state. The caller checks the values (finite, within the
+    /// stress limit); only the gate is checked here.
+    pub fn from_state(s: &CounterState) -> Result<RainflowCounter, GateError> {
+        let mut c = RainflowCounter::try_new(s.gate_mpa)?;
+        c.tp.samples = s.samples;
+        c.tp.emitted = s.reversals;
+        c.full = s.full_cycles;
+        c.tp.prev = s.last_mpa;
+        c.tp.dir = s.direction;
+        c.tp.min = s.min_mpa;
+        c.tp.max = s.max_mpa;
+        c.stack = s.residue_mpa.clone();
+        Ok(c)
+    }
+}
+
+/// Where `residue` is not a residue the counter can leave: the 1-based position of a
+/// point that does not alternate with its neighbours, or of the first point of a pair
+/// that the four-point rule would have closed (ASTM E1049-85 §5.4.4, as
+/// `push_reversal`); `None` for a valid residue.
+pub fn residue_fault(residue: &[f64]) -> Option<usize> {
+    if let Some(i) = residue.windows(2).position(|w| w[0] == w[1]) {
+        return Some(i + 2);
+    }
+    for (i, w) in residue.windows(3).enumerate() {
+        // a residue alternates: each inner point is a peak or a valley
+        if (w[1] - w[0]) * (w[2] - w[1]) >= 0.0 {
+            return Some(i + 2);
+        }
+    }
+    for (i, w) in residue.windows(4).enumerate() {
+        let y = (w[2] - w[1]).abs();
+        if (w[3] - w[2]).abs() >= y && (w[1] - w[0]).abs() > y {
+            return Some(i + 2);
+        }
+    }
+    None
 }
 
 /// Close the residue of a record that repeats: all its cycles as full cycles.

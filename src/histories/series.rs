@@ -463,6 +463,16 @@ impl Moments {
         self.n = n;
     }
 
+    /// Samples, mean and sum of squared deviations, as a spectrum part saves them.
+    pub(crate) fn parts(&self) -> (f64, f64, f64) {
+        (self.n, self.mean, self.m2)
+    }
+
+    /// Moments from their saved parts (checked by the caller).
+    pub(crate) fn from_parts(n: f64, mean: f64, m2: f64) -> Moments {
+        Moments { n, mean, m2 }
+    }
+
     fn std_dev(&self) -> f64 {
         if self.n > 0.0 {
             (self.m2 / self.n).sqrt()

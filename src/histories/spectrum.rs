@@ -645,6 +645,217 @@ impl Spectrum {
     }
 }
 
+/// How one axis is binned, as a spectrum part stores it: exactly one of the two.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct AxisRuleState {
+    /// Fixed bin width, MPa.
+    pub width_mpa: Option<f64>,
+    /// At most this many bins, widths powers of two in MPa.
+    pub max_bins: Option<u64>,
+}
+
+impl From<BinRule> for AxisRuleState {
+    fn from(r: BinRule) -> AxisRuleState {
+        match r {
+            BinRule::Width(w) => AxisRuleState {
+                width_mpa: Some(w),
+                max_bins: None,
+            },
+            BinRule::MaxBins(n) => AxisRuleState {
+                width_mpa: None,
+                max_bins: Some(n as u64),
+            },
+        }
+    }
+}
+
+impl AxisRuleState {
+    /// The rule, or why there is none.
+    pub fn rule(&self) -> Result<BinRule, String> {
+        match (self.width_mpa, self.max_bins) {
+            (Some(w), None) => Ok(BinRule::Width(w)),
+            (None, Some(n)) => usize::try_from(n)
+                .map(BinRule::MaxBins)
+                .map_err(|_| format!("max_bins {n} is too large")),
+            _ => Err("give exactly one of width_mpa and max_bins".into()),
+        }
+    }
+}
+
+/// One occupied cell of a saved spectrum: bin indices at the saved widths (bin `k`
+/// holds `[k·w, (k+1)·w)`) and the cell's accumulators.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct CellState {
+    /// Range bin index.
+    pub range_bin: i64,
+    /// Mean bin index.
+    pub mean_bin: i64,
+    /// Cycles in the cell (half cycles count 0.5).
+    pub cycles: f64,
+    /// Largest range counted in the cell, MPa.
+    pub max_range_mpa: f64,
+    /// Σ count·mean of the cell's cycles, MPa (the weighted mean is this / cycles).
+    pub mean_sum_mpa: f64,
+}
+
+/// A spectrum saved so that it merges with others exactly as the spectrum itself.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct SpectrumState {
+    /// Current range bin width, MPa.
+    pub range_width_mpa: f64,
+    /// Current mean bin width, MPa.
+    pub mean_width_mpa: f64,
+    /// Occupied cells, by range bin then mean bin.
+    pub cells: Vec<CellState>,
+}
+
+/// Largest cycle count a saved cell or spectrum may hold: 2^52, below which sums of
+/// whole and half cycles are exact in f64 (and two such sums never reach infinity).
+pub const MAX_SAVED_CYCLES: f64 = 4_503_599_627_370_496.0;
+
+impl Spectrum {
+    /// The spectrum's binning rules.
+    pub fn spec(&self) -> SpectrumSpec {
+        SpectrumSpec {
+            range: self.range.rule,
+            mean: self.mean.rule,
+        }
+    }
+
+    /// The spectrum as saved in a part.
+    pub fn state(&self) -> SpectrumState {
+        let mut e = self.store.entries();
+        e.retain(|(_, a)| a.cycles != 0.0);
+        e.sort_by_key(|(k, _)| *k);
+        SpectrumState {
+            range_width_mpa: self.range.width,
+            mean_width_mpa: self.mean.width,
+            cells: e
+                .into_iter()
+                .map(|((r, m), a)| CellState {
+                    range_bin: r,
+                    mean_bin: m,
+                    cycles: a.cycles,
+                    max_range_mpa: a.max_range,
+                    mean_sum_mpa: a.sum_mean,
+                })
+                .collect(),
+        }
+    }
+
+    /// A spectrum binned by `spec` from its saved state, every value checked: widths
+    /// that the rules can reach, cells inside the bins allowed and each cell's largest
+    /// range inside its own bin, counts finite, positive, whole or half, and at most
+    /// [`MAX_SAVED_CYCLES`] in all. The error says what is wrong, for a message.
+    pub fn from_state(spec: SpectrumSpec, s: &SpectrumState) -> Result<Spectrum, String> {
+        let mut sp = Spectrum::new(spec).map_err(|e| e.to_string())?;
+        for (axis, width, name) in [
+            (&mut sp.range, s.range_width_mpa, "range"),
+            (&mut sp.mean, s.mean_width_mpa, "mean"),
+        ] {
+            match axis.rule {
+                BinRule::Width(w) => {
+                    if width != w {
+                        return Err(format!(
+                            "{name}_width_mpa is {width} but the {name} bins are {w} MPa wide"
+                        ));
+                    }
+                }
+                BinRule::MaxBins(_) => {
+                    while axis.width < width {
+                        if !axis.double() {
+                            break;
+                        }
+                    }
+                    if axis.width != width {
+                        return Err(format!(
+                            "{name}_width_mpa {width} is not a power of two from 2^{MIN_WIDTH_EXP} MPa up"
+                        ));
+                    }
+                }
+            }
+        }
+        let mut entries = Vec::with_capacity(s.cells.len());
+        let mut seen = std::collections::HashSet::with_capacity(s.cells.len());
+        let mut total = 0.0f64;
+        let mut bx: Option<IdxBox> = None;
+        for (i, c) in s.cells.iter().enumerate() {
+            let at = format!("cells[{i}]");
+            let (r, m) = (c.range_bin, c.mean_bin);
+            if !seen.insert((r, m)) {
+                return Err(format!("{at}: the cell ({r}, {m}) is given twice"));
+            }
+            if !(c.cycles.is_finite() && c.cycles > 0.0 && c.cycles <= MAX_SAVED_CYCLES) {
+                return Err(format!(
+                    "{at}: cycles must be a number > 0 and at most 2^52, got {}",
+                    c.cycles
+                ));
+            }
+            // a count is a sum of whole and half cycles (ASTM E1049-85 §5.4.4)
+            if (2.0 * c.cycles).fract() != 0.0 {
+                return Err(format!(
+                    "{at}: cycles must be whole or half cycles, got {}",
+                    c.cycles
+                ));
+            }
+            let lo = r as f64 * sp.range.width;
+            let hi = (r as f64 + 1.0) * sp.range.width;
+            let x = c.max_range_mpa;
+            if r < 0 || !(x.is_finite() && x >= lo && x < hi) || sp.range.index(x) != r {
+                return Err(format!(
+                    "{at}: max_range_mpa {x} does not lie in range bin {r} ([{lo}, {hi}) MPa)"
+                ));
+            }
+            if !c.mean_sum_mpa.is_finite() {
+                return Err(format!("{at}: mean_sum_mpa must be finite"));
+            }
+            total += c.cycles;
+            bx = Some(bx.map_or(IdxBox::point(r, m), |b| b.include(r, m)));
+            entries.push((
+                (r, m),
+                Acc {
+                    cycles: c.cycles,
+                    max_range: x,
+                    sum_mean: c.mean_sum_mpa,
+                },
+            ));
+        }
+        if total > MAX_SAVED_CYCLES {
+            return Err(format!(
+                "the cells hold {total} cycles; at most 2^52 are read"
+            ));
+        }
+        if let Some(b) = bx {
+            if sp.range.max_bins().is_some_and(|n| b.r_hi >= n) {
+                return Err(format!(
+                    "range bin {} lies beyond the {} range bins allowed",
+                    b.r_hi,
+                    sp.range.max_bins().unwrap_or(0)
+                ));
+            }
+            if sp.mean.max_bins().is_some_and(|n| b.spans().1 > n as i128) {
+                return Err(format!(
+                    "the mean bins span {} bins, more than the {} allowed",
+                    b.spans().1,
+                    sp.mean.max_bins().unwrap_or(0)
+                ));
+            }
+        }
+        sp.max_range = entries.iter().fold(0.0, |a, (_, c)| c.max_range.max(a));
+        sp.total = total;
+        sp.added = entries.len() as u64;
+        sp.used = bx;
+        sp.store = match bx {
+            None => Store::Empty,
+            Some(b) => Store::build(b, &entries),
+        };
+        Ok(sp)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
