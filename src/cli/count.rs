@@ -2,7 +2,7 @@
 //! time series into spectra, reading the file once.
 
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use clap::Args;
 
@@ -11,8 +11,9 @@ use crate::error::{Error, InputError, InputErrorKind, Location, EXIT_PASS};
 use crate::files::short_num;
 use crate::files::text::data_num;
 use crate::files::write::{check_target, FileId, Inputs, PendingFile};
-use crate::histories::binary::{count_binary, BinaryFormat};
+use crate::histories::binary::{count_binary, count_binary_open, BinaryFormat};
 use crate::histories::ingest::{Channels, Ingest};
+use crate::histories::part::{OpenCount, PartSettings, SpectrumPart};
 use crate::histories::rainflow::ResidueMode;
 use crate::histories::series::{ColumnRef, CountOptions, SeriesSpec, SeriesUnit};
 use crate::histories::spectrum::{BinRule, SpectrumSpec};
@@ -113,13 +114,22 @@ pub struct CountArgs {
     /// Also write the range-mean matrix as an SVG heat map (`{channel}` as for --svg).
     #[arg(long, value_name = "FILE")]
     pub matrix_svg: Option<PathBuf>,
+    /// Also write a spectrum part (JSON): this file's count with its residue still
+    /// open, for `seamlife merge` to join with the parts of the files before and after
+    /// it (or to sum with other records). The spectrum CSV is then written only with -o.
+    #[arg(long, value_name = "PART.json")]
+    pub spectrum_out: Option<PathBuf>,
+    /// Position of this file in its record (1, 2, ...), saved in the spectrum part so
+    /// that a merge refuses parts out of order, repeated or missing.
+    #[arg(long, value_name = "N", requires = "spectrum_out")]
+    pub sequence: Option<u64>,
     /// No progress bar.
     #[arg(long, short)]
     pub quiet: bool,
 }
 
 /// Placeholder of a figure's file name replaced by the channel's name.
-const CHANNEL_MARK: &str = "{channel}";
+pub(super) const CHANNEL_MARK: &str = "{channel}";
 
 pub(super) fn run(a: &CountArgs) -> Result<i32, Error> {
     let (spec, opts, channels) = count_setup(a)?;
@@ -147,57 +157,99 @@ pub(super) fn run(a: &CountArgs) -> Result<i32, Error> {
     let mut inputs = Inputs::new();
     inputs.add(&a.file, "the series file being counted");
     // The fixed outputs are checked before the count, and none may be another.
-    check_distinct(a, &[&a.output, &a.stats, &a.svg, &a.matrix_svg], &inputs)?;
-    let recs = count_records(a, &spec, &opts, &channels)?;
+    let fixed = [&a.output, &a.stats, &a.svg, &a.matrix_svg, &a.spectrum_out];
+    check_distinct(&a.file, &fixed, &inputs)?;
+    let (recs, part) = match &a.spectrum_out {
+        None => (count_records(a, &spec, &opts, &channels)?, None),
+        Some(p) => {
+            let (recs, part) = count_part(a, &spec, &opts, &channels)?;
+            (recs, Some((p.clone(), part)))
+        }
+    };
+    let mut files = figures(&recs, &a.svg, &a.matrix_svg, &a.stats)?;
     let csv = spectrum_csv(&recs, multi)?;
+    if let Some(p) = &a.output {
+        files.push((p.clone(), csv.clone()));
+    }
+    if let Some((p, part)) = part {
+        files.push((p, part));
+    }
+    let stdout = (a.output.is_none() && a.spectrum_out.is_none()).then_some(&csv[..]);
+    write_all(&a.file, &files, stdout, &inputs)?;
+    for (_, rec) in &recs {
+        if let Some(w) = crate::histories::gate_note(rec) {
+            print_err(&format!("warning: {w}\n"));
+        }
+        print_err(&format!(
+            "{}\n",
+            summary_line(&a.file.display().to_string(), rec)
+        ));
+    }
+    Ok(EXIT_PASS)
+}
+
+/// The figures (`svg`, `matrix_svg`, with `{channel}` replaced by each channel's
+/// name) and the statistics of `recs`, as (path, bytes).
+pub(super) fn figures(
+    recs: &[(String, CountedRecord)],
+    svg: &Option<PathBuf>,
+    matrix_svg: &Option<PathBuf>,
+    stats: &Option<PathBuf>,
+) -> Result<Vec<(PathBuf, Vec<u8>)>, Error> {
     let mut files: Vec<(PathBuf, Vec<u8>)> = Vec::new();
     for (i, (name, rec)) in recs.iter().enumerate() {
-        let stem = figure_stem(name, i, &recs);
+        let stem = figure_stem(name, i, recs);
         let path = |p: &PathBuf| PathBuf::from(p.to_string_lossy().replace(CHANNEL_MARK, &stem));
-        if let Some(p) = &a.svg {
+        if let Some(p) = svg {
             files.push((path(p), crate::report::plots::histogram(rec).into_bytes()));
         }
-        if let Some(p) = &a.matrix_svg {
+        if let Some(p) = matrix_svg {
             files.push((
                 path(p),
                 crate::report::plots::matrix_heatmap(rec).into_bytes(),
             ));
         }
     }
-    if let Some(p) = &a.stats {
-        files.push((p.clone(), stats_csv(&recs)?));
+    if let Some(p) = stats {
+        files.push((p.clone(), stats_csv(recs)?));
     }
-    if let Some(p) = &a.output {
-        files.push((p.clone(), csv.clone()));
-    }
+    Ok(files)
+}
+
+/// Write `files` whole or not at all (none an input, none named twice), after
+/// printing `stdout` if given; `about` is the file messages are located at.
+pub(super) fn write_all(
+    about: &Path,
+    files: &[(PathBuf, Vec<u8>)],
+    stdout: Option<&[u8]>,
+    inputs: &Inputs,
+) -> Result<(), Error> {
     let targets: Vec<Option<PathBuf>> = files.iter().map(|(p, _)| Some(p.clone())).collect();
-    check_distinct(a, &targets.iter().collect::<Vec<_>>(), &inputs)?;
+    check_distinct(about, &targets.iter().collect::<Vec<_>>(), inputs)?;
     let mut pending = Vec::new();
-    for (p, bytes) in &files {
-        let mut f = PendingFile::new(p, &inputs, ".part")?;
+    for (p, bytes) in files {
+        let mut f = PendingFile::new(p, inputs, ".part")?;
         f.file().write_all(bytes).map_err(|source| Error::Output {
             path: p.clone(),
             source,
         })?;
         pending.push(f);
     }
-    if a.output.is_none() {
-        print_data(&csv)?;
+    if let Some(csv) = stdout {
+        print_data(csv)?;
     }
     for f in pending {
         f.commit()?;
     }
-    for (_, rec) in &recs {
-        if let Some(w) = crate::histories::gate_note(rec) {
-            print_err(&format!("warning: {w}\n"));
-        }
-        print_err(&format!("{}\n", summary_line(a, rec)));
-    }
-    Ok(EXIT_PASS)
+    Ok(())
 }
 
 /// Check output targets: each writable, none an input, none named twice.
-fn check_distinct(a: &CountArgs, outs: &[&Option<PathBuf>], inputs: &Inputs) -> Result<(), Error> {
+pub(super) fn check_distinct(
+    about: &Path,
+    outs: &[&Option<PathBuf>],
+    inputs: &Inputs,
+) -> Result<(), Error> {
     let outs: Vec<&PathBuf> = outs.iter().filter_map(|p| p.as_ref()).collect();
     for (i, p) in outs.iter().enumerate() {
         check_target(p, inputs)?;
@@ -205,10 +257,13 @@ fn check_distinct(a: &CountArgs, outs: &[&Option<PathBuf>], inputs: &Inputs) -> 
             *q == *p || matches!((FileId::of(q), FileId::of(p)), (Some(x), Some(y)) if x == y)
         };
         if outs[..i].iter().any(same) {
-            return Err(bad_arg(
-                a,
-                format!("{} is named for two outputs", p.display()),
-                "give -o, --stats, --svg and --matrix-svg different file names (and channels different names)",
+            return Err(Error::Input(
+                InputError::new(
+                    InputErrorKind::InvalidValue,
+                    Location::file(about),
+                    format!("{} is named for two outputs", p.display()),
+                )
+                .hint("give -o, --stats, --svg, --matrix-svg and --spectrum-out different file names (and channels different names)"),
             ));
         }
     }
@@ -358,12 +413,15 @@ fn count_setup(a: &CountArgs) -> Result<(SeriesSpec, CountOptions, Channels), Er
     Ok((spec, opts, channels))
 }
 
-fn residue_mode(r: ResidueArg) -> ResidueMode {
+pub(super) fn residue_mode(r: ResidueArg) -> ResidueMode {
     match r {
         ResidueArg::Repeated => ResidueMode::Repeated,
         ResidueArg::HalfCycles => ResidueMode::HalfCycles,
     }
 }
+
+/// Each channel's name and counted record.
+pub(super) type Named = Vec<(String, CountedRecord)>;
 
 /// Count the channels in one pass and describe each as the results model does.
 fn count_records(
@@ -372,10 +430,93 @@ fn count_records(
     opts: &CountOptions,
     channels: &Channels,
 ) -> Result<Vec<(String, CountedRecord)>, Error> {
+    let block = Ingest::default().block_bytes;
+    let counted = read_channels(
+        a,
+        |f, these, report| count_binary(spec, f, these, opts, block, report),
+        |report| {
+            crate::histories::ingest::count_channels(
+                spec,
+                channels,
+                opts,
+                Ingest::default(),
+                report,
+            )
+        },
+        channels,
+    )?;
+    Ok(counted
+        .into_iter()
+        .map(|c| (c.name.clone(), record_of(a, &c.name, c.counted, opts.mode)))
+        .collect())
+}
+
+/// Count the channels as a piece of a longer record: each channel's record (this
+/// file alone, its residue closed) and the spectrum part (JSON) with the residue open.
+fn count_part(
+    a: &CountArgs,
+    spec: &SeriesSpec,
+    opts: &CountOptions,
+    channels: &Channels,
+) -> Result<(Named, Vec<u8>), Error> {
+    let block = Ingest::default().block_bytes;
+    let open = read_channels(
+        a,
+        |f, these, report| count_binary_open(spec, f, these, opts, block, report),
+        |report| {
+            crate::histories::ingest::count_channels_open(
+                spec,
+                channels,
+                opts,
+                Ingest::default(),
+                report,
+            )
+        },
+        channels,
+    )?;
+    let settings = PartSettings {
+        unit: unit_input(a.unit),
+        modulus_mpa: match a.unit {
+            UnitArg::Mpa => None,
+            UnitArg::Microstrain => a.modulus_mpa,
+        },
+        scale: a.scale,
+        gate_mpa: a.gate_mpa,
+        residue: opts.mode,
+        bins: opts.bins,
+    };
+    let named: Vec<(String, OpenCount)> = open.into_iter().map(|c| (c.name, c.open)).collect();
+    let part = SpectrumPart::new(&settings, &named, file_name(&a.file), a.sequence);
+    let mut json = serde_json::to_vec_pretty(&part)
+        .map_err(|e| Error::Internal(format!("spectrum part: {e}")))?;
+    json.push(b'\n');
+    let recs = named
+        .into_iter()
+        .map(|(name, o)| {
+            let rec = record_of(a, &name, o.into_series(opts.mode), opts.mode);
+            (name, rec)
+        })
+        .collect();
+    Ok((recs, json))
+}
+
+/// Read the channels through the binary reader (`binary`, given the format, the
+/// channels chosen and the progress) or the CSV reader (`csv`), with a progress bar;
+/// series errors become input errors located at the file.
+fn read_channels<T>(
+    a: &CountArgs,
+    binary: impl FnOnce(
+        BinaryFormat,
+        Option<&[ColumnRef]>,
+        &dyn Fn(u64, u64),
+    ) -> Result<T, crate::histories::series::SeriesError>,
+    csv: impl FnOnce(&dyn Fn(u64, u64)) -> Result<T, crate::histories::series::SeriesError>,
+    channels: &Channels,
+) -> Result<T, Error> {
     let total = std::fs::metadata(&a.file).map_or(0, |m| m.len());
     let progress = super::progress::Progress::new(total >> 20, "counting MiB", a.quiet);
     let report = |done: u64, _| progress.set(done >> 20);
-    let binary = match a.format {
+    let format = match a.format {
         FormatArg::Auto
             if a.file
                 .extension()
@@ -392,28 +533,13 @@ fn count_records(
         }),
         FormatArg::Npy => Some(BinaryFormat::Npy),
     };
-    let counted = match (binary, channels) {
-        (Some(f), Channels::All) => {
-            count_binary(spec, f, None, opts, Ingest::default().block_bytes, &report)
-        }
-        (Some(f), Channels::These(v)) => count_binary(
-            spec,
-            f,
-            Some(v),
-            opts,
-            Ingest::default().block_bytes,
-            &report,
-        ),
-        (None, _) => crate::histories::ingest::count_channels(
-            spec,
-            channels,
-            opts,
-            Ingest::default(),
-            &report,
-        ),
+    let counted = match (format, channels) {
+        (Some(f), Channels::All) => binary(f, None, &report),
+        (Some(f), Channels::These(v)) => binary(f, Some(v), &report),
+        (None, _) => csv(&report),
     };
     progress.finish();
-    let counted = counted.map_err(|e| {
+    counted.map_err(|e| {
         Error::Input(
             InputError::new(
                 InputErrorKind::Series,
@@ -422,44 +548,51 @@ fn count_records(
             )
             .hint(series_hint(&e)),
         )
-    })?;
-    let file = a
-        .file
-        .file_name()
+    })
+}
+
+fn file_name(p: &Path) -> String {
+    p.file_name()
         .map(|f| f.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    Ok(counted
-        .into_iter()
-        .map(|c| {
-            let column = match (&a.column, channels) {
-                (Some(col), _) => col.clone(),
-                _ => c.name.clone(),
-            };
-            let rec = counted_record(
-                c.counted,
-                RecordLabels {
-                    event: "record".into(),
-                    file: file.clone(),
-                    column,
-                    unit: match a.unit {
-                        UnitArg::Mpa => SeriesUnitInput::Mpa,
-                        UnitArg::Microstrain => SeriesUnitInput::Microstrain,
-                    },
-                    scale: a.scale,
-                    modulus_mpa: a.modulus_mpa,
-                    gate_mpa: a.gate_mpa,
-                    mode: opts.mode,
-                    repeats_per_year: 1.0,
-                },
-            );
-            (c.name, rec)
-        })
-        .collect())
+        .unwrap_or_default()
+}
+
+fn unit_input(u: UnitArg) -> SeriesUnitInput {
+    match u {
+        UnitArg::Mpa => SeriesUnitInput::Mpa,
+        UnitArg::Microstrain => SeriesUnitInput::Microstrain,
+    }
+}
+
+/// One channel's count described as the results model does.
+fn record_of(
+    a: &CountArgs,
+    name: &str,
+    counted: crate::histories::series::CountedSeries,
+    mode: ResidueMode,
+) -> CountedRecord {
+    counted_record(
+        counted,
+        RecordLabels {
+            event: "record".into(),
+            file: file_name(&a.file),
+            column: a.column.clone().unwrap_or_else(|| name.to_string()),
+            unit: unit_input(a.unit),
+            scale: a.scale,
+            modulus_mpa: a.modulus_mpa,
+            gate_mpa: a.gate_mpa,
+            mode,
+            repeats_per_year: 1.0,
+        },
+    )
 }
 
 /// The range-mean spectrum as CSV: one row per matrix cell (with several channels, a
 /// first `channel` column names the channel of each row).
-fn spectrum_csv(recs: &[(String, CountedRecord)], multi: bool) -> Result<Vec<u8>, Error> {
+pub(super) fn spectrum_csv(
+    recs: &[(String, CountedRecord)],
+    multi: bool,
+) -> Result<Vec<u8>, Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     let e = |e: csv::Error| Error::Internal(format!("csv: {e}"));
     let head = [
@@ -539,10 +672,10 @@ fn stats_csv(recs: &[(String, CountedRecord)]) -> Result<Vec<u8>, Error> {
 }
 
 /// The one-line account of the count printed on standard error.
-fn summary_line(a: &CountArgs, rec: &CountedRecord) -> String {
+pub(super) fn summary_line(source: &str, rec: &CountedRecord) -> String {
     format!(
         "{} [{}]: {} samples, {} reversals, {} full and {} half cycles ({} residue), gate {} MPa, range bins {} MPa, mean bins {} MPa{}",
-        a.file.display(),
+        source,
         rec.column,
         rec.samples,
         rec.reversals,

@@ -8,6 +8,7 @@ mod diff;
 mod fit;
 mod lint;
 mod merge;
+mod merge_spectra;
 mod new;
 pub mod output;
 pub mod progress;

@@ -21,7 +21,7 @@
 //! [`SpectrumPart`]; its JSON Schema is `seamlife schema spectrum-part`.
 
 use std::io::Read;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 
@@ -630,4 +630,349 @@ pub fn looks_like_part(path: &Path) -> bool {
         return false;
     }
     memchr::memmem::find(&head, PART_FORMAT.as_bytes()).is_some()
+}
+
+/// A part read from its file.
+#[derive(Clone, Debug)]
+pub struct ReadPart {
+    /// Where it was read from.
+    pub path: PathBuf,
+    /// The file as written.
+    pub part: SpectrumPart,
+    /// Its settings, checked.
+    pub settings: PartSettings,
+    /// Each record's open counts, one per channel.
+    pub records: Vec<Vec<OpenCount>>,
+}
+
+impl ReadPart {
+    /// Read and check the part at `path`.
+    pub fn read(path: &Path) -> Result<ReadPart, InputError> {
+        let (part, settings, records) = read_part(path)?;
+        Ok(ReadPart {
+            path: path.to_path_buf(),
+            part,
+            settings,
+            records,
+        })
+    }
+}
+
+/// Parts merged: the merged part (for a further merge) and its records' open counts.
+#[derive(Clone, Debug)]
+pub struct MergedParts {
+    /// The merged part as it is written.
+    pub part: SpectrumPart,
+    /// Its settings (the residue rule the merge applies).
+    pub settings: PartSettings,
+    /// Each record's open counts, one per channel.
+    pub records: Vec<Vec<OpenCount>>,
+}
+
+fn bins_text(r: &AxisRuleState) -> String {
+    match (r.width_mpa, r.max_bins) {
+        (Some(w), _) => format!("{} MPa wide", short_num(w)),
+        (_, Some(n)) => format!("at most {n} (power-of-two widths)"),
+        _ => "not given".into(),
+    }
+}
+
+fn mismatch(
+    a: &ReadPart,
+    b: &ReadPart,
+    what: &str,
+    va: String,
+    vb: String,
+    hint: &str,
+) -> InputError {
+    InputError::new(
+        InputErrorKind::InvalidValue,
+        Location::file(&b.path),
+        format!(
+            "cannot merge: {what} is {} here but {} in {}",
+            one_line(&vb),
+            one_line(&va),
+            a.path.display()
+        ),
+    )
+    .hint(hint)
+}
+
+const RECOUNT_HINT: &str = "parts merge only when counted with the same --unit, --modulus-mpa, --scale, --gate-mpa and bins (--bin-width-mpa or --bins, --mean-bins); count the odd file again with the options of the others";
+
+/// Merge parts given in record order: with `separate`, as separate records (each keeps
+/// its own residue, closed on its own); otherwise as consecutive pieces of one record,
+/// joined in the order given. `residue` overrides the parts' residue rule (they must
+/// agree without it). Refuses parts counted otherwise (unit, scale, gate, bins,
+/// channels), the same count given twice, and pieces whose sequence numbers are out
+/// of order, repeated or missing.
+pub fn merge_parts(
+    parts: Vec<ReadPart>,
+    separate: bool,
+    residue: Option<ResidueMode>,
+) -> Result<MergedParts, InputError> {
+    let Some(a) = parts.first() else {
+        return Err(InputError::new(
+            InputErrorKind::InvalidValue,
+            Location::file(Path::new("-")),
+            "no part to merge",
+        ));
+    };
+    for b in &parts[1..] {
+        let (pa, pb) = (&a.part, &b.part);
+        let unit = |p: &SpectrumPart| match p.unit {
+            SeriesUnitInput::Mpa => "MPa".to_string(),
+            SeriesUnitInput::Microstrain => format!(
+                "µε with a modulus of {} MPa",
+                short_num(p.modulus_mpa.unwrap_or(f64::NAN))
+            ),
+        };
+        let checks: [(&str, String, String); 5] = [
+            ("the unit", unit(pa), unit(pb)),
+            ("the scale", short_num(pa.scale), short_num(pb.scale)),
+            (
+                "the hysteresis gate",
+                format!("{} MPa", short_num(pa.gate_mpa)),
+                format!("{} MPa", short_num(pb.gate_mpa)),
+            ),
+            (
+                "the range bins",
+                bins_text(&pa.range_bins),
+                bins_text(&pb.range_bins),
+            ),
+            (
+                "the mean bins",
+                bins_text(&pa.mean_bins),
+                bins_text(&pb.mean_bins),
+            ),
+        ];
+        for (what, va, vb) in checks {
+            if va != vb {
+                return Err(mismatch(a, b, what, va, vb, RECOUNT_HINT));
+            }
+        }
+        // the texts above are short; the values themselves must agree exactly
+        if a.settings.scale != b.settings.scale
+            || a.settings.modulus_mpa != b.settings.modulus_mpa
+            || a.settings.gate_mpa != b.settings.gate_mpa
+            || a.settings.bins != b.settings.bins
+        {
+            return Err(mismatch(
+                a,
+                b,
+                "a counting option",
+                format!("{:?}", a.settings),
+                format!("{:?}", b.settings),
+                RECOUNT_HINT,
+            ));
+        }
+        if pa.channels != pb.channels {
+            return Err(mismatch(
+                a,
+                b,
+                "the channels",
+                pa.channels.join(", "),
+                pb.channels.join(", "),
+                "count every file with the same --column, --columns or --all-columns (same names, same order)",
+            ));
+        }
+        if residue.is_none() && pa.residue != pb.residue {
+            let t = |r: ResidueInput| match r {
+                ResidueInput::Repeated => "repeated".to_string(),
+                ResidueInput::HalfCycles => "half-cycles".to_string(),
+            };
+            return Err(mismatch(
+                a,
+                b,
+                "the residue rule",
+                t(pa.residue),
+                t(pb.residue),
+                "give the rule for the merged record with `seamlife merge --residue repeated|half-cycles`",
+            ));
+        }
+    }
+    // the same count given twice (the same file counted twice, or a part copied)
+    for (i, b) in parts.iter().enumerate() {
+        for a in &parts[..i] {
+            for rb in &b.part.records {
+                if let Some(ra) = a.part.records.iter().find(|ra| ra.channels == rb.channels) {
+                    return Err(InputError::new(
+                        InputErrorKind::DuplicateId,
+                        Location::file(&b.path),
+                        format!(
+                            "cannot merge: this part holds the same count as {} (of {})",
+                            a.path.display(),
+                            one_line(&ra.files.join(", "))
+                        ),
+                    )
+                    .hint("give each part once; two parts with the same count come from the same file counted twice"));
+                }
+            }
+        }
+    }
+    let mut settings = a.settings.clone();
+    if let Some(m) = residue {
+        settings.residue = m;
+    }
+    let mut head = a.part.clone();
+    head.residue = residue_input(settings.residue);
+    head.tool = format!("seamlife {}", env!("CARGO_PKG_VERSION"));
+    if separate {
+        let mut records = Vec::new();
+        let mut saved = Vec::new();
+        for p in parts {
+            saved.extend(p.part.records);
+            records.extend(p.records);
+        }
+        head.records = saved;
+        return Ok(MergedParts {
+            part: head,
+            settings,
+            records,
+        });
+    }
+    let with_seq = parts
+        .iter()
+        .filter(|p| p.part.records.iter().any(|r| r.sequence.is_some()))
+        .count();
+    let mut joined: Option<(PartRecord, Vec<OpenCount>)> = None;
+    for p in parts {
+        if p.records.len() != 1 {
+            return Err(InputError::new(
+                InputErrorKind::InvalidValue,
+                Location::file(&p.path),
+                format!(
+                    "cannot join: this part holds {} separate records, not one piece of a record",
+                    p.records.len()
+                ),
+            )
+            .hint("merge it with --separate, or merge the pieces of each record first"));
+        }
+        let rec = p.part.records[0].clone();
+        if !rec.joinable {
+            return Err(InputError::new(
+                InputErrorKind::InvalidValue,
+                Location::file(&p.path),
+                format!(
+                    "cannot join: this part was counted with a hysteresis gate of {} MPa, whose state at the start of a file depends on the whole record before it",
+                    short_num(p.settings.gate_mpa)
+                ),
+            )
+            .hint("count the pieces with --gate-mpa 0 to join them, count the whole record in one file, or merge the parts as separate records with --separate"));
+        }
+        if with_seq != 0 && rec.sequence.is_none() {
+            return Err(InputError::new(
+                InputErrorKind::InvalidValue,
+                Location::file(&p.path),
+                "cannot join: this part has no sequence number but others have",
+            )
+            .hint("count every piece with --sequence N (its position in the record), or none"));
+        }
+        let opens = p.records.into_iter().next().unwrap_or_default();
+        match &mut joined {
+            None => joined = Some((rec, opens)),
+            Some((acc, counts)) => {
+                if let (Some(qa), Some(qb)) = (acc.sequence, rec.sequence) {
+                    let at = |m: String, h: &str| {
+                        InputError::new(InputErrorKind::InvalidValue, Location::file(&p.path), m)
+                            .hint(h)
+                    };
+                    if qb.first <= qa.last {
+                        return Err(at(
+                            format!(
+                                "cannot join: piece {}{} comes after piece {} (out of order or given twice)",
+                                qb.first,
+                                if qb.last > qb.first { format!("..{}", qb.last) } else { String::new() },
+                                qa.last
+                            ),
+                            "give the parts in record order (sorted by their sequence numbers), each once",
+                        ));
+                    }
+                    if qb.first > qa.last + 1 {
+                        return Err(at(
+                            format!(
+                                "cannot join: pieces {} to {} are missing before piece {}",
+                                qa.last + 1,
+                                qb.first - 1,
+                                qb.first
+                            ),
+                            "count the missing files and give their parts too; a record joined across a gap would count false cycles at the seam",
+                        ));
+                    }
+                    acc.sequence = Some(SequenceRange {
+                        first: qa.first,
+                        last: qb.last,
+                    });
+                }
+                acc.files.extend(rec.files);
+                for (x, y) in counts.iter_mut().zip(opens) {
+                    x.join(y, |_| {}).map_err(|e| {
+                        InputError::new(
+                            InputErrorKind::InvalidValue,
+                            Location::file(&p.path),
+                            format!("cannot join: {e}"),
+                        )
+                        .hint(RECOUNT_HINT)
+                    })?;
+                }
+            }
+        }
+    }
+    let Some((mut rec, counts)) = joined else {
+        return Err(InputError::new(
+            InputErrorKind::InvalidValue,
+            Location::file(Path::new("-")),
+            "no part to merge",
+        ));
+    };
+    rec.channels = counts.iter().map(ChannelState::of).collect();
+    head.records = vec![rec];
+    Ok(MergedParts {
+        part: head,
+        settings,
+        records: vec![counts],
+    })
+}
+
+/// Each channel's count over all `records` (one list of channel counts per record):
+/// every record's residue closed as `mode` says, then the records summed (cycles per
+/// bin, totals, extremes, moments).
+pub fn finish_records(
+    records: Vec<Vec<OpenCount>>,
+    mode: ResidueMode,
+) -> Result<Vec<CountedSeries>, InputError> {
+    let mut sums: Vec<Option<(CountStats, Spectrum, Moments)>> = Vec::new();
+    for rec in records {
+        if sums.is_empty() {
+            sums.resize_with(rec.len(), || None);
+        }
+        for (slot, open) in sums.iter_mut().zip(rec) {
+            let (st, sp, mo) = open.finish(mode, |_| {});
+            match slot {
+                None => *slot = Some((st, sp, mo)),
+                Some((s, p, m)) => {
+                    // separate records add up: cycles per bin, totals, extremes (common practice)
+                    s.samples = s.samples.saturating_add(st.samples);
+                    s.reversals = s.reversals.saturating_add(st.reversals);
+                    s.full_cycles = s.full_cycles.saturating_add(st.full_cycles);
+                    s.half_cycles = s.half_cycles.saturating_add(st.half_cycles);
+                    s.min = s.min.min(st.min);
+                    s.max = s.max.max(st.max);
+                    p.merge(&sp).map_err(|e| {
+                        InputError::new(
+                            InputErrorKind::InvalidValue,
+                            Location::file(Path::new("-")),
+                            e.to_string(),
+                        )
+                    })?;
+                    m.merge(&mo);
+                }
+            }
+        }
+    }
+    Ok(sums
+        .into_iter()
+        .flatten()
+        .map(|(st, sp, mo)| counted_series(st, &sp, &mo))
+        .collect())
 }
