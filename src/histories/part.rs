@@ -605,7 +605,11 @@ pub fn read_part(
             Location::file(path),
             format!(
                 "spectrum part format version {} is not read by this seamlife (it reads version {PART_FORMAT_VERSION})",
-                head.format_version.map_or("(none)".to_string(), |v| clip(&v.to_string()))
+                match (version, &head.format_version) {
+                    (Some(v), _) => v.to_string(),
+                    (None, None) => "(none)".to_string(),
+                    (None, Some(v)) => clip(&v.to_string()),
+                }
             ),
         )
         .hint("count the file again with this seamlife"));
@@ -795,7 +799,8 @@ pub fn merge_parts(
     for (i, b) in parts.iter().enumerate() {
         for a in &parts[..i] {
             for rb in &b.part.records {
-                if let Some(ra) = a.part.records.iter().find(|ra| ra.channels == rb.channels) {
+                let same = |ra: &&PartRecord| ra.channels == rb.channels && ra.files == rb.files;
+                if let Some(ra) = a.part.records.iter().find(same) {
                     return Err(InputError::new(
                         InputErrorKind::DuplicateId,
                         Location::file(&b.path),
@@ -835,6 +840,8 @@ pub fn merge_parts(
         .iter()
         .filter(|p| p.part.records.iter().any(|r| r.sequence.is_some()))
         .count();
+    // a single record needs no join, whatever it was counted with
+    let alone = parts.len() == 1;
     let mut joined: Option<(PartRecord, Vec<OpenCount>)> = None;
     for p in parts {
         if p.records.len() != 1 {
@@ -849,7 +856,7 @@ pub fn merge_parts(
             .hint("merge it with --separate, or merge the pieces of each record first"));
         }
         let rec = p.part.records[0].clone();
-        if !rec.joinable {
+        if !rec.joinable && !alone {
             return Err(InputError::new(
                 InputErrorKind::InvalidValue,
                 Location::file(&p.path),
