@@ -2,7 +2,8 @@
 //! that read and write them, so they cannot drift from the program. Editors use the
 //! project file's schema for completion and validation while typing (a YAML editor
 //! extension reads the `# yaml-language-server: $schema=...` line at the top of the
-//! file); tools use the results and diff schemas to read `--json` output.
+//! file); tools use the results and diff schemas to read `--json` output, and the spectrum
+//! part's to read or check what `count --spectrum-out` writes.
 
 use serde_json::Value;
 
@@ -18,6 +19,8 @@ pub enum SchemaKind {
     Diff,
     /// The checker's review file (YAML) of `report --review`.
     Review,
+    /// The spectrum part written by `count --spectrum-out` and `merge --spectrum-out`.
+    SpectrumPart,
 }
 
 /// The review file's schema, kept by hand beside the reader (`checker::review`): it
@@ -32,6 +35,7 @@ impl SchemaKind {
         SchemaKind::Results,
         SchemaKind::Diff,
         SchemaKind::Review,
+        SchemaKind::SpectrumPart,
     ];
 
     pub fn name(self) -> &'static str {
@@ -40,6 +44,7 @@ impl SchemaKind {
             SchemaKind::Results => "results",
             SchemaKind::Diff => "diff",
             SchemaKind::Review => "review",
+            SchemaKind::SpectrumPart => "spectrum-part",
         }
     }
 
@@ -60,6 +65,10 @@ impl SchemaKind {
             ),
             SchemaKind::Diff => "seamlife diff model (diff --json)".into(),
             SchemaKind::Review => "seamlife review file".into(),
+            SchemaKind::SpectrumPart => format!(
+                "seamlife spectrum part, format version {}",
+                crate::histories::part::PART_FORMAT_VERSION
+            ),
         }
     }
 }
@@ -70,6 +79,7 @@ pub fn schema(kind: SchemaKind) -> Value {
         SchemaKind::Project => schemars::schema_for!(crate::input::schema::ProjectFile),
         SchemaKind::Results => schemars::schema_for!(crate::results::Results),
         SchemaKind::Diff => schemars::schema_for!(crate::checker::diff::DiffReport),
+        SchemaKind::SpectrumPart => schemars::schema_for!(crate::histories::part::SpectrumPart),
         // kept by hand, with its own title
         SchemaKind::Review => return serde_json::from_str(REVIEW_SCHEMA).unwrap_or(Value::Null),
     };

@@ -46,7 +46,7 @@ fn demo_projects() -> Vec<PathBuf> {
 
 #[test]
 fn published_schemas_are_the_generated_ones() {
-    for kind in ["project", "results", "diff", "review"] {
+    for kind in ["project", "results", "diff", "review", "spectrum-part"] {
         let (code, out, _) = run(&mut cmd(&["schema", kind]));
         assert_eq!(code, 0);
         let file = root().join(format!("schemas/{kind}.schema.json"));
@@ -190,4 +190,44 @@ fn schema_output_is_never_written_over_a_folder() {
     let v: Value =
         serde_json::from_slice(&std::fs::read(dir.path().join("r.schema.json")).unwrap()).unwrap();
     assert_eq!(v, schema("results"));
+}
+
+#[test]
+fn a_spectrum_part_validates_and_a_spoiled_one_does_not() {
+    let v = validator("spectrum-part");
+    let dir = tempfile::tempdir().unwrap();
+    let part = dir.path().join("p.part.json");
+    let (code, _, err) = run(&mut cmd(&[
+        "count",
+        safety_common::record().to_str().unwrap(),
+        "--columns",
+        "2,1",
+        "--spectrum-out",
+        part.to_str().unwrap(),
+        "--sequence",
+        "4",
+    ]));
+    assert_eq!(code, 0, "{err}");
+    let x: Value = serde_json::from_str(&std::fs::read_to_string(&part).unwrap()).unwrap();
+    assert_eq!(errors(&v, &x), Vec::<String>::new());
+    // what the reader refuses by its types, the schema refuses too
+    let spoil: [(&str, Edit); 3] = [
+        (
+            "unknown key",
+            Box::new(|x| x["colour"] = Value::from("red")),
+        ),
+        (
+            "text for a count",
+            Box::new(|x| x["records"][0]["channels"][0]["samples"] = Value::from("many")),
+        ),
+        (
+            "unknown residue rule",
+            Box::new(|x| x["residue"] = Value::from("twice")),
+        ),
+    ];
+    for (what, edit) in spoil {
+        let mut y = x.clone();
+        edit(&mut y);
+        assert!(!errors(&v, &y).is_empty(), "{what}");
+    }
 }
