@@ -749,3 +749,44 @@ fn outputs_never_overwrite_a_part_and_odd_files_are_refused() {
         assert!(!out.exists());
     }
 }
+
+#[test]
+fn binary_and_quoted_pieces_merge_into_the_whole_csv_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let v = lcg(5000, 31, 8);
+    let rows: Vec<Vec<f64>> = v.iter().map(|&x| vec![x]).collect();
+    let file = d.join("b.csv");
+    write_csv(&file, &["s"], &rows);
+    let (w, ws) = whole(d, &file, &["--column", "1"]);
+    let cuts = [0usize, 1700, 1701, 3900, 5000];
+    // raw little-endian float64 pieces, read without parsing
+    let mut bin = Vec::new();
+    for (k, c) in cuts.windows(2).enumerate() {
+        let f = d.join(format!("b-{}.f64", k + 1));
+        let bytes: Vec<u8> = v[c[0]..c[1]].iter().flat_map(|x| x.to_le_bytes()).collect();
+        std::fs::write(&f, bytes).unwrap();
+        bin.push(f);
+    }
+    let p = parts(&bin, &["--format", "f64", "--column", "1"]);
+    let (m, ms) = merged(d, &p, &[]);
+    assert_same_spectrum(&w, &m);
+    // the statistics name the channel by number for a binary record
+    assert_eq!(stat(&ms, "full_cycles"), stat(&ws, "full_cycles"));
+    assert_eq!(stat(&ms, "reversals"), stat(&ws, "reversals"));
+    // quoted cells go to the reference reader
+    let mut quoted = Vec::new();
+    for (k, c) in cuts.windows(2).enumerate() {
+        let f = d.join(format!("q-{}.csv", k + 1));
+        let mut t = String::from("\"s\"\n");
+        for x in &v[c[0]..c[1]] {
+            t.push_str(&format!("\"{x}\"\n"));
+        }
+        std::fs::write(&f, t).unwrap();
+        quoted.push(f);
+    }
+    let p = parts(&quoted, &["--column", "1"]);
+    let (m, ms) = merged(d, &p, &[]);
+    assert_same_spectrum(&w, &m);
+    assert_same_stats(&ws, &ms);
+}

@@ -983,3 +983,105 @@ pub fn finish_records(
         .map(|(st, sp, mo)| counted_series(st, &sp, &mo))
         .collect())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::histories::rainflow::count_slice;
+    use crate::histories::spectrum::BinRule;
+
+    /// Small integer levels about zero: many plateaus and ties at the seams.
+    fn lcg(n: usize, seed: u64, levels: u64) -> Vec<f64> {
+        let v = crate::histories::rainflow::tests::lcg_signal(n, seed, levels);
+        v.into_iter().map(|x| x - 3.0).collect()
+    }
+
+    fn bins() -> SpectrumSpec {
+        SpectrumSpec {
+            range: BinRule::MaxBins(32),
+            mean: BinRule::MaxBins(8),
+        }
+    }
+
+    /// A piece counted from its first sample, as a reader counts a file.
+    fn piece(xs: &[f64]) -> OpenCount {
+        let mut o = OpenCount::piece(0.0, Spectrum::new(bins()).unwrap());
+        let first = xs[0];
+        let first_move = xs.iter().find(|&&x| x != first).map_or(0.0, |&x| x - first);
+        let mut c = RainflowCounter::part_from(first);
+        let sp = &mut o.spectrum;
+        c.push_slice(&xs[1..], &mut |cy: Cycle| sp.add(&cy));
+        o.counter = Some(c);
+        o.note_start(first, first_move);
+        o.moments.add_slice(xs);
+        o.samples = xs.len() as u64;
+        o
+    }
+
+    /// Through the JSON of a part and back, checked as a read part is.
+    fn saved(o: &OpenCount) -> OpenCount {
+        let st = ChannelState::of(o);
+        let text = serde_json::to_string(&st).unwrap();
+        let back: ChannelState = serde_json::from_str(&text).unwrap();
+        assert_eq!(back, st, "the saved state reads back bit for bit");
+        let s = PartSettings {
+            unit: SeriesUnitInput::Mpa,
+            modulus_mpa: None,
+            scale: 1.0,
+            gate_mpa: 0.0,
+            residue: ResidueMode::Repeated,
+            bins: bins(),
+        };
+        back.open(true, &s, "x").unwrap()
+    }
+
+    #[test]
+    fn pieces_joined_after_saving_count_as_the_whole_record() {
+        // reference: the serial count of the whole record by the same counter (held to
+        // rainflow 3.2.0 in tests/rainflow_reference.rs)
+        for seed in 0..30u64 {
+            let xs = lcg(3000 + 37 * seed as usize, seed, 3 + seed % 6);
+            let mut cuts: Vec<usize> = lcg(6, seed + 99, 1 << 20)
+                .iter()
+                .map(|v| (*v + 3.0) as usize % xs.len())
+                .filter(|&c| c > 0)
+                .collect();
+            cuts.extend([1, xs.len() - 1]);
+            cuts.sort_unstable();
+            cuts.dedup();
+            let mut bounds = vec![0];
+            bounds.extend(cuts);
+            bounds.push(xs.len());
+            for mode in [ResidueMode::Repeated, ResidueMode::HalfCycles] {
+                let mut whole = Spectrum::new(bins()).unwrap();
+                let stats = count_slice(&xs, 0.0, mode, &mut |c| whole.add(&c));
+                let mut joined: Option<OpenCount> = None;
+                for w in bounds.windows(2) {
+                    let p = saved(&piece(&xs[w[0]..w[1]]));
+                    match &mut joined {
+                        None => joined = Some(p),
+                        Some(j) => j.join(p, |_| {}).unwrap(),
+                    }
+                }
+                let (st, sp, _) = joined.unwrap().finish(mode, |_| {});
+                assert_eq!(st, stats, "seed {seed}");
+                let key = |s: &Spectrum| {
+                    s.matrix()
+                        .iter()
+                        .map(|c| (c.range_lo_mpa, c.mean_lo_mpa, c.cycles, c.max_range_mpa))
+                        .collect::<Vec<_>>()
+                };
+                assert_eq!(key(&sp), key(&whole), "seed {seed}");
+            }
+        }
+    }
+
+    #[test]
+    fn a_gated_count_does_not_join() {
+        // the gate's state at a seam depends on the whole record before it (module notes)
+        let mut a = OpenCount::piece(1.0, Spectrum::new(bins()).unwrap());
+        let b = OpenCount::piece(1.0, Spectrum::new(bins()).unwrap());
+        assert!(!a.joinable());
+        assert_eq!(a.join(b, |_| {}), Err(JoinError::NotJoinable));
+    }
+}

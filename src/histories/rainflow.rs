@@ -1002,7 +1002,7 @@ where
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
 
     fn slice_reversals(xs: &[f64], gate: f64) -> Vec<f64> {
@@ -1020,7 +1020,7 @@ mod tests {
         v
     }
 
-    fn lcg_signal(n: usize, seed: u64, levels: u64) -> Vec<f64> {
+    pub(crate) fn lcg_signal(n: usize, seed: u64, levels: u64) -> Vec<f64> {
         // small integer levels give many plateaus and ties
         let mut s = seed;
         (0..n)
