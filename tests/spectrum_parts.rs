@@ -790,3 +790,99 @@ fn binary_and_quoted_pieces_merge_into_the_whole_csv_count() {
     assert_same_spectrum(&w, &m);
     assert_same_stats(&ws, &ms);
 }
+
+/// A one-detail project (EN 1993-1-9 family, 25 years) whose normal stress is the
+/// series `file` (column `sg4_microstrain`, µε, E = 210000 MPa) repeated 2000 times a
+/// year, `extra` lines added to the series; invented demo numbers.
+fn project(file: &str, extra: &str) -> String {
+    safety_common::series_project(
+        &format!(
+            "            file: {file}\n            column: sg4_microstrain\n            unit: microstrain\n            modulus_mpa: 210000\n{extra}"
+        ),
+        "          per_year: 2000\n",
+    )
+}
+
+#[test]
+fn a_project_series_event_reads_a_merged_part_with_cells_at_their_largest_range() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let rows = demo_rows();
+    let file = d.join("rec.csv");
+    write_csv(&file, &["sg4_microstrain"], &rows);
+    let files = split(d, "rec", &["sg4_microstrain"], &rows, &[9000, 20000]);
+    let opts = [
+        "--column",
+        "sg4_microstrain",
+        "--unit",
+        "microstrain",
+        "--modulus-mpa",
+        "210000",
+    ];
+    let p = parts(&files, &opts);
+    let joined = d.join("rec.part.json");
+    let mut args = vec!["merge"];
+    args.extend(p.iter().map(|x| s(x)));
+    let tmp = d.join("tmp.csv");
+    args.extend_from_slice(&["--spectrum-out", s(&joined), "-o", s(&tmp)]);
+    assert_eq!(seamlife(&args).0, 0);
+    let lib = seamlife::catalogue::Library::load(None).unwrap();
+    let run = |yaml: String| {
+        let y = d.join("p.yaml");
+        std::fs::write(&y, yaml).unwrap();
+        let r = seamlife::run_project(&y, &lib).unwrap();
+        let project = seamlife::input::load_project_with(&y, &lib, Default::default()).unwrap();
+        let fam = lib.get(&project.file.basis.family).unwrap();
+        let h = seamlife::histories::build(&project).unwrap();
+        let cells = seamlife::assess::assess(&project, fam, &h);
+        (r, cells.details[0].components[0].damage)
+    };
+    let (from_csv, csv_cells) = run(project("rec.csv", ""));
+    let (from_part, _) = run(project("rec.part.json", ""));
+    let (a, b) = (
+        &from_csv.details[0].components[0],
+        &from_part.details[0].components[0],
+    );
+    let (ra, rb) = (
+        serde_json::to_value(&a.counted[0]).unwrap(),
+        serde_json::to_value(&b.counted[0]).unwrap(),
+    );
+    for key in [
+        "samples",
+        "reversals",
+        "full_cycles",
+        "half_cycles",
+        "min_mpa",
+        "max_mpa",
+    ] {
+        assert_eq!(ra[key], rb[key], "{key}");
+    }
+    assert_eq!(ra["per_cycle"], true);
+    assert_eq!(rb["per_cycle"], false, "a part holds cells, not cycles");
+    // the part's damage is that of the whole record's cells at their largest range
+    // (the per-cell rule, the same cells: reference the CSV record's cell sum)
+    let dp = b.damage;
+    assert!(
+        (dp - csv_cells).abs() <= 1e-9 * csv_cells,
+        "{dp} vs {csv_cells}"
+    );
+    assert!(
+        dp >= a.damage * (1.0 - 1e-12),
+        "conservative: {dp} vs {}",
+        a.damage
+    );
+    // the event's options must be those the part was counted with
+    let y = d.join("p.yaml");
+    std::fs::write(&y, project("rec.part.json", "            bins: 32\n")).unwrap();
+    let (code, _, err) = seamlife(&["assess", s(&y)]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("bins") && err.contains("p.yaml"), "{err}");
+    let other = project("rec.part.json", "").replace("column: sg4_microstrain", "column: sg5");
+    std::fs::write(&y, other).unwrap();
+    let (code, _, err) = seamlife(&["assess", s(&y)]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("no channel 'sg5'") && err.contains("sg4_microstrain"),
+        "{err}"
+    );
+}

@@ -516,22 +516,24 @@ pub fn build_with(project: &Project, rules: &RuleFor) -> Result<ProjectHistories
     Ok(out)
 }
 
+/// (request, its count and exact damage) for every user of a group.
+type GroupCounts = Vec<(
+    usize,
+    (crate::histories::series::CountedSeries, Option<ExactDamage>),
+)>;
+
 /// Count `columns` of a group's file in one pass, each with the rules of its users;
 /// returns (request, its count and exact damage) for every user.
-#[allow(clippy::type_complexity)]
 fn count_group(
     g: &Group,
     reqs: &[Request],
     columns: &[ColumnSelector],
     users: &[Vec<usize>],
-) -> Result<
-    Vec<(
-        usize,
-        (crate::histories::series::CountedSeries, Option<ExactDamage>),
-    )>,
-    crate::histories::series::SeriesError,
-> {
+) -> Result<GroupCounts, crate::histories::series::SeriesError> {
     use crate::histories::ingest::{count_channels_rated, Channels, Ingest};
+    if part::looks_like_part(&g.spec.path) {
+        return part_group(g, columns, users);
+    }
     let refs: Vec<ColumnRef> = columns.iter().map(column_ref).collect();
     let rules: Vec<Vec<damage::SharedRule>> = users
         .iter()
@@ -561,6 +563,79 @@ fn count_group(
                     acted: t.acted,
                 });
             out.push((q, (cc.counted.clone(), exact)));
+        }
+    }
+    Ok(out)
+}
+
+/// The counts of `columns` read from a spectrum part (`count --spectrum-out`) instead
+/// of a time series: the part's records closed with the event's residue rule and
+/// summed. A part holds binned cells, not each cycle, so there is no per-cycle damage:
+/// each cell enters the damage sum at its largest range (the results say so).
+fn part_group(
+    g: &Group,
+    columns: &[ColumnSelector],
+    users: &[Vec<usize>],
+) -> Result<GroupCounts, crate::histories::series::SeriesError> {
+    use crate::histories::series::SeriesError;
+    let bad = SeriesError::Part;
+    let read = part::ReadPart::read(&g.spec.path).map_err(|e| {
+        bad(format!(
+            "{e}{}",
+            e.hint
+                .as_deref()
+                .map(|h| format!(" ({h})"))
+                .unwrap_or_default()
+        ))
+    })?;
+    let s = &read.settings;
+    let (unit, modulus) = match g.spec.unit {
+        SeriesUnit::Mpa => (SeriesUnitInput::Mpa, None),
+        SeriesUnit::Microstrain { modulus_mpa } => {
+            (SeriesUnitInput::Microstrain, Some(modulus_mpa))
+        }
+    };
+    let path = g.spec.path.display();
+    let differs = [
+        ("unit", s.unit != unit),
+        ("modulus_mpa", s.modulus_mpa != modulus),
+        ("scale", s.scale != g.spec.scale),
+        ("gate_mpa", s.gate_mpa != g.opts.gate_mpa),
+        (
+            "bins (bins, bin_width_mpa, mean_bins)",
+            s.bins != g.opts.bins,
+        ),
+    ];
+    if let Some((what, _)) = differs.iter().find(|(_, d)| *d) {
+        return Err(bad(format!(
+            "the spectrum part {path} was counted with another {what} than this event states (the part: {})",
+            s.describe()
+        )));
+    }
+    let names = &read.part.channels;
+    let mut out = Vec::new();
+    for (col, us) in columns.iter().zip(users) {
+        let j = match col {
+            ColumnSelector::Name(n) => names.iter().position(|c| c == n),
+            ColumnSelector::Index(i) => (*i >= 1 && *i <= names.len()).then(|| i - 1),
+        };
+        let Some(j) = j else {
+            return Err(bad(format!(
+                "the spectrum part {path} holds no channel {}; it holds {} (a number counts the part's channels from 1)",
+                match col {
+                    ColumnSelector::Name(n) => crate::files::text::clip(n),
+                    ColumnSelector::Index(i) => i.to_string(),
+                },
+                names.join(", ")
+            )));
+        };
+        let records = read.records.iter().map(|r| vec![r[j].clone()]).collect();
+        let counted = part::finish_records(records, g.opts.mode)
+            .map_err(|e| bad(e.to_string()))?
+            .pop()
+            .ok_or_else(|| bad(format!("the spectrum part {path} holds no record")))?;
+        for &q in us {
+            out.push((q, (counted.clone(), None)));
         }
     }
     Ok(out)
@@ -817,5 +892,6 @@ pub fn series_hint(e: &crate::histories::series::SeriesError) -> String {
         E::BadSample { .. } => "remove or repair NaN, infinite or out-of-range samples; check the unit, scale and sample type".into(),
         E::BadBinary { .. } => "give the sample type and channel count the record was written with (--format, --channels), or a NumPy .npy file of little-endian float32/float64".into(),
         E::Invalid(_) | E::Gate(_) | E::Spectrum(_) => "check the series options (scale, modulus, gate, bins)".into(),
+        E::Part(_) => "the file is a spectrum part (`seamlife count --spectrum-out`): the event must state the options it was counted with (unit, modulus_mpa, scale, gate_mpa, bins or bin_width_mpa, mean_bins) and name one of its channels".into(),
     }
 }

@@ -320,6 +320,31 @@ pub struct PartSettings {
     pub bins: SpectrumSpec,
 }
 
+impl PartSettings {
+    /// The options in the words of a project's series event, for messages.
+    pub fn describe(&self) -> String {
+        let axis = |name: &str, r: &AxisRuleState| match (r.width_mpa, r.max_bins) {
+            (Some(w), _) => format!("{name}_width_mpa {}", short_num(w)),
+            (_, Some(n)) => format!("{name} {n}"),
+            _ => String::new(),
+        };
+        format!(
+            "unit {}{}, scale {}, gate_mpa {}, {}, {}",
+            match self.unit {
+                SeriesUnitInput::Mpa => "mpa",
+                SeriesUnitInput::Microstrain => "microstrain",
+            },
+            self.modulus_mpa
+                .map(|e| format!(", modulus_mpa {}", short_num(e)))
+                .unwrap_or_default(),
+            short_num(self.scale),
+            short_num(self.gate_mpa),
+            axis("bin", &self.bins.range.into()).replace("bin ", "bins "),
+            axis("mean_bin", &self.bins.mean.into()).replace("mean_bin ", "mean_bins "),
+        )
+    }
+}
+
 fn residue_input(m: ResidueMode) -> ResidueInput {
     match m {
         ResidueMode::Repeated => ResidueInput::Repeated,

@@ -307,6 +307,9 @@ pub enum SeriesError {
     /// The request itself is wrong.
     #[error("invalid time series request: {0}")]
     Invalid(String),
+    /// A spectrum part read in place of a time series cannot serve the event.
+    #[error("{0}")]
+    Part(String),
     /// Bad hysteresis gate.
     #[error(transparent)]
     Gate(#[from] GateError),
