@@ -615,6 +615,20 @@ fn bad_parts_are_refused_with_a_located_message() {
             "exactly one of width_mpa and max_bins",
             Box::new(|v| v["range_bins"]["width_mpa"] = 2.0.into()),
         ),
+        // bins finer than count accepts would give bin indices near the integer limit
+        (
+            "fine.part.json",
+            "width_mpa must be from 0.001",
+            Box::new(|v| {
+                v["range_bins"] = serde_json::json!({"width_mpa": 1e-300, "max_bins": null});
+                v["records"][0]["channels"][0]["spectrum"]["range_width_mpa"] = 1e-300.into();
+            }),
+        ),
+        (
+            "far-mean.part.json",
+            "lies beyond",
+            Box::new(move |v| set_cell(v, "mean_bin", 4_000_000_000_000i64.into())),
+        ),
         (
             "channels.part.json",
             "holds 1 channels but the part names 2",

@@ -32,8 +32,9 @@ use crate::histories::rainflow::{
     residue_fault, CountStats, CounterState, Cycle, RainflowCounter, ResidueMode,
 };
 use crate::histories::series::{counted_series, CountedSeries, Moments, MAX_SERIES_STRESS_MPA};
-use crate::histories::spectrum::{AxisRuleState, Spectrum, SpectrumSpec, SpectrumState};
+use crate::histories::spectrum::{AxisRuleState, BinRule, Spectrum, SpectrumSpec, SpectrumState};
 use crate::input::{ResidueInput, SeriesUnitInput};
+use crate::input::{MAX_BINS, MAX_STRESS_MPA, MIN_BIN_WIDTH_MPA};
 
 /// A count whose residue is not closed yet: a whole record, or a piece of one that
 /// joins with the pieces after it.
@@ -399,6 +400,12 @@ impl ChannelState {
         stress(self.mean_mpa, "mean_mpa", lim)?;
         stress(c.last_mpa, "counter.last_mpa", lim)?;
         stress(c.direction, "counter.direction", 2.0 * lim)?;
+        if s.gate_mpa != 0.0 && ![-1.0, 0.0, 1.0].contains(&c.direction) {
+            return Err(format!(
+                "{at}.counter.direction of a gated count is -1, 0 or 1, got {}",
+                c.direction
+            ));
+        }
         stress(c.min_mpa, "counter.min_mpa", lim)?;
         stress(c.max_mpa, "counter.max_mpa", lim)?;
         for (i, &r) in c.residue_mpa.iter().enumerate() {
@@ -507,6 +514,24 @@ impl SpectrumPart {
             .map_err(|e| format!("mean_bins: {e}"))?;
         let bins = SpectrumSpec { range, mean };
         Spectrum::new(bins).map_err(|e| e.to_string())?;
+        // the bounds `count` and a project's series event accept
+        for (name, r) in [("range_bins", range), ("mean_bins", mean)] {
+            match r {
+                BinRule::Width(w) if !(MIN_BIN_WIDTH_MPA..=2.0 * MAX_STRESS_MPA).contains(&w) => {
+                    return Err(format!(
+                        "{name}.width_mpa must be from {} to {} MPa, got {w}",
+                        short_num(MIN_BIN_WIDTH_MPA),
+                        short_num(2.0 * MAX_STRESS_MPA)
+                    ))
+                }
+                BinRule::MaxBins(n) if n > MAX_BINS as usize => {
+                    return Err(format!(
+                        "{name}.max_bins is {n}; at most {MAX_BINS} are read"
+                    ))
+                }
+                _ => {}
+            }
+        }
         if !(self.scale.is_finite() && self.scale > 0.0) {
             return Err(format!(
                 "scale must be a finite number > 0, got {}",
@@ -1013,7 +1038,6 @@ pub fn finish_records(
 mod tests {
     use super::*;
     use crate::histories::rainflow::count_slice;
-    use crate::histories::spectrum::BinRule;
 
     /// Small integer levels about zero: many plateaus and ties at the seams.
     fn lcg(n: usize, seed: u64, levels: u64) -> Vec<f64> {

@@ -804,13 +804,21 @@ impl Spectrum {
             let lo = r as f64 * sp.range.width;
             let hi = (r as f64 + 1.0) * sp.range.width;
             let x = c.max_range_mpa;
-            if r < 0 || !(x.is_finite() && x >= lo && x < hi) || sp.range.index(x) != r {
+            let top = 2.0 * crate::histories::series::MAX_SERIES_STRESS_MPA;
+            if r < 0 || !(x.is_finite() && x >= lo && x < hi && x <= top) || sp.range.index(x) != r
+            {
                 return Err(format!(
                     "{at}: max_range_mpa {x} does not lie in range bin {r} ([{lo}, {hi}) MPa)"
                 ));
             }
-            if !c.mean_sum_mpa.is_finite() {
-                return Err(format!("{at}: mean_sum_mpa must be finite"));
+            // every mean lies within the stress limit, so the cell's bin does too
+            let limit = crate::histories::series::MAX_SERIES_STRESS_MPA;
+            let wm = sp.mean.width;
+            if !(c.mean_sum_mpa.is_finite() && (m as f64 * wm).abs() <= limit + wm) {
+                return Err(format!(
+                    "{at}: mean bin {m} or mean_sum_mpa {} lies beyond ±{limit} MPa",
+                    c.mean_sum_mpa
+                ));
             }
             total += c.cycles;
             bx = Some(bx.map_or(IdxBox::point(r, m), |b| b.include(r, m)));
