@@ -63,7 +63,8 @@ pub enum Command {
     Count(CountArgs),
     /// Derive a detail category from fatigue test results (CSV) and write it as a family extension.
     Fit(FitArgs),
-    /// Merge the JSON results of the parts of a sharded run (`assess --shard K/N --json`).
+    /// Merge the JSON results of the parts of a sharded run (`assess --shard K/N --json`), or
+    /// spectrum parts (`count --spectrum-out`) into the spectrum of the whole record.
     Merge(merge::MergeArgs),
     /// Check a project file without assessing it.
     Lint {
