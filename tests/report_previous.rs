@@ -22,6 +22,16 @@ fn page_with<'a>(pg: &'a [String], needle: &str) -> &'a str {
         .unwrap_or_else(|| panic!("no page with {needle}"))
 }
 
+/// The text from the page holding `needle` to the end of the next page (a section may
+/// start low on a page and go on over the next).
+fn pages_from(pg: &[String], needle: &str) -> String {
+    let i = pg
+        .iter()
+        .position(|p| squash(p).contains(needle))
+        .unwrap_or_else(|| panic!("no page with {needle}"));
+    pg[i..(i + 2).min(pg.len())].join("\n")
+}
+
 fn sheet<'a>(pg: &'a [String], id: &str) -> &'a str {
     pg.iter()
         .find(|p| p.contains("DETAIL SHEET") && squash(p).contains(&format!("Detail {id}")))
@@ -59,7 +69,7 @@ fn the_package_shows_the_changes_since_revision_a() {
     let pg = pages(&pdf);
     let all = squash(&pg.join("\n"));
     assert!(all.contains("Changes since revision A"));
-    let ch = squash(page_with(&pg, "compared with revision A of 2026-10-02"));
+    let ch = squash(&pages_from(&pg, "compared with revision A of 2026-10-02"));
     assert!(
         ch.contains("2 added, 0 removed, 1 changed, 6 unchanged."),
         "{ch}"

@@ -228,6 +228,7 @@ pub fn template_context(
 ) -> Value {
     json!({
         "r": r,
+        "summary_rows": SummaryRow::all(r, sheets),
         "plots": plot_files,
         "sheets": sheets,
         "population": population,
@@ -240,6 +241,74 @@ pub fn template_context(
             "detail_count": r.details.len(),
         },
     })
+}
+
+/// One line of the summary table: the printed fields of a detail, in the table's
+/// order (highest utilisation first; equal ones in project order). Built here so
+/// that the template neither sorts nor copies whole details (a 10 000-detail table
+/// took seconds that way).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct SummaryRow<'a> {
+    /// Index of the detail in `r.details`.
+    pub index: usize,
+    pub id: &'a str,
+    pub location: &'a str,
+    /// The category of each component, in the order of the results.
+    pub categories: Vec<SummaryCategory<'a>>,
+    pub governing_check: &'a str,
+    pub damage: f64,
+    pub utilisation: f64,
+    pub life_years: Option<f64>,
+    pub reserve_factor: Option<f64>,
+    pub status: crate::results::Status,
+    /// The detail has a full sheet.
+    pub sheet: bool,
+}
+
+/// A component's category in a summary row.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct SummaryCategory<'a> {
+    pub component: &'a str,
+    pub category_mpa: f64,
+}
+
+impl SummaryRow<'_> {
+    /// The rows of every detail, highest utilisation first (a stable sort, so equal
+    /// utilisations keep the project order, as the utilisation chart has them).
+    pub fn all<'a>(r: &'a Results, sheets: &Sheets) -> Vec<SummaryRow<'a>> {
+        let mut order: Vec<usize> = (0..r.details.len()).collect();
+        order.sort_by(|&a, &b| {
+            r.details[b]
+                .utilisation
+                .total_cmp(&r.details[a].utilisation)
+        });
+        order
+            .into_iter()
+            .map(|i| {
+                let d = &r.details[i];
+                SummaryRow {
+                    index: i,
+                    id: &d.id,
+                    location: &d.location,
+                    categories: d
+                        .components
+                        .iter()
+                        .map(|c| SummaryCategory {
+                            component: &c.component,
+                            category_mpa: c.category_mpa,
+                        })
+                        .collect(),
+                    governing_check: &d.governing_check,
+                    damage: d.damage,
+                    utilisation: d.utilisation,
+                    life_years: d.life_years,
+                    reserve_factor: d.reserve_factor,
+                    status: d.status,
+                    sheet: sheets.has_sheet.get(i).copied().unwrap_or(false),
+                }
+            })
+            .collect()
+    }
 }
 
 /// The details with a full sheet: their indices in project order, the rule in words,
