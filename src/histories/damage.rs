@@ -24,6 +24,8 @@ pub struct CycleEffect {
     pub segment: Option<usize>,
     /// The mean-stress rule changed its range.
     pub mean_rule_acted: bool,
+    /// Its design range γFf·Δσ_eff in MPa (the range the curve was entered with).
+    pub design_range_mpa: f64,
 }
 
 /// The damage of one cycle on one detail (its curve and corrections).
@@ -50,6 +52,102 @@ pub struct DamageTally {
     pub below: f64,
     /// The mean-stress rule changed the range of some cycle.
     pub acted: bool,
+    /// The cycles by design range in fine logarithmic bins, for the searches that
+    /// scale every range (reserve factor, required category).
+    pub ranges: DesignRanges,
+}
+
+/// Mantissa bits that index a bin of [`DesignRanges`]: 2^12 bins per octave.
+pub const RANGE_BITS: u32 = 12;
+/// Largest ratio of a bin's upper to its lower edge, less one: 2^-12 = 2.44e-4.
+pub const RANGE_RESOLUTION: f64 = 1.0 / (1u64 << RANGE_BITS) as f64;
+const PAGE: usize = 1 << RANGE_BITS;
+const NO_PAGE: u32 = u32::MAX;
+/// An empty bin: no cycles, smallest range +∞, largest 0.
+const EMPTY: [f64; 3] = [0.0, f64::INFINITY, 0.0];
+
+/// Cycles counted by design range in bins whose upper edge is at most
+/// 1 + [`RANGE_RESOLUTION`] times their lower edge, each bin with its cycles and the
+/// smallest and largest design range counted in it. A bin is the value's binary
+/// exponent and its first 12 mantissa bits (bins of equal relative width, found
+/// without a logarithm); a page of 2^12 bins is made for each octave a range falls in.
+/// With every range scaled by k, a damage sum that takes each bin's cycles at its
+/// largest range is never below the exact sum at k and never above the exact sum at
+/// k·(1 + resolution); at its smallest range, the other way round (each cycle moves by
+/// at most the bin's ratio; common practice: bracketing by bins). Where a bin holds one
+/// range only, both are exact.
+#[derive(Clone, Debug, Default)]
+pub struct DesignRanges {
+    /// Page number of each biased binary exponent (2048 of them; `NO_PAGE`: none).
+    index: Vec<u32>,
+    /// (biased exponent, [cycles, smallest, largest range] of each of its 2^12 bins).
+    pages: Vec<(u16, Vec<[f64; 3]>)>,
+}
+
+impl DesignRanges {
+    /// Add `count` cycles of design range `d_mpa` (> 0 and finite; others are skipped).
+    #[inline]
+    pub fn add(&mut self, d_mpa: f64, count: f64) {
+        if !(d_mpa > 0.0 && d_mpa.is_finite()) {
+            return;
+        }
+        let b = self.bin(d_mpa);
+        b[0] += count;
+        b[1] = b[1].min(d_mpa);
+        b[2] = b[2].max(d_mpa);
+    }
+
+    /// The bin of a positive finite range, its page made if need be.
+    #[inline]
+    fn bin(&mut self, d_mpa: f64) -> &mut [f64; 3] {
+        let bits = d_mpa.to_bits();
+        let e = (bits >> 52) as usize;
+        let bin = ((bits >> (52 - RANGE_BITS)) as usize) & (PAGE - 1);
+        if self.index.is_empty() {
+            self.index = vec![NO_PAGE; 2048];
+        }
+        let mut p = self.index[e];
+        if p == NO_PAGE {
+            p = self.pages.len() as u32;
+            self.index[e] = p;
+            self.pages.push((e as u16, vec![EMPTY; PAGE]));
+        }
+        &mut self.pages[p as usize].1[bin]
+    }
+
+    /// Add the cycles of another set.
+    pub fn merge(&mut self, o: &DesignRanges) {
+        for (_, page) in &o.pages {
+            for x in page.iter().filter(|x| x[0] != 0.0) {
+                // the smallest range lies in the same bin as every value of it
+                let b = self.bin(x[1]);
+                b[0] += x[0];
+                b[1] = b[1].min(x[1]);
+                b[2] = b[2].max(x[2]);
+            }
+        }
+    }
+
+    /// Every non-empty bin: (smallest range, largest range, cycles), by rising range.
+    pub fn bins(&self) -> Vec<(f64, f64, f64)> {
+        let mut pages: Vec<&(u16, Vec<[f64; 3]>)> = self.pages.iter().collect();
+        pages.sort_by_key(|p| p.0);
+        pages
+            .into_iter()
+            .flat_map(|p| p.1.iter())
+            .filter(|x| x[0] != 0.0)
+            .map(|x| (x[1], x[2], x[0]))
+            .collect()
+    }
+
+    /// Σ cycles.
+    pub fn cycles(&self) -> f64 {
+        self.pages
+            .iter()
+            .flat_map(|p| p.1.iter())
+            .map(|x| x[0])
+            .sum()
+    }
 }
 
 impl DamageTally {
@@ -61,6 +159,7 @@ impl DamageTally {
             bands: vec![(0.0, 0.0); rule.segments()],
             below: 0.0,
             acted: false,
+            ranges: DesignRanges::default(),
         }
     }
 
@@ -72,6 +171,7 @@ impl DamageTally {
             bands: vec![(0.0, 0.0); self.bands.len()],
             below: 0.0,
             acted: false,
+            ranges: DesignRanges::default(),
         }
     }
 
@@ -94,6 +194,7 @@ impl DamageTally {
             _ => self.below += c.count,
         }
         self.cells.add_block(c.range, c.mean, e.damage);
+        self.ranges.add(e.design_range_mpa, c.count);
     }
 
     /// Add the tally of cycles counted elsewhere (another part of the record).
@@ -106,6 +207,7 @@ impl DamageTally {
         }
         self.below += o.below;
         self.acted |= o.acted;
+        self.ranges.merge(&o.ranges);
         Ok(())
     }
 
