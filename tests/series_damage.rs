@@ -377,7 +377,10 @@ fn a_detail_that_passes_exactly_keeps_a_reserve_factor_of_at_least_one() {
     assert!(d.utilisation > 0.999, "{}", d.utilisation);
     assert_eq!(d.status, seamlife::results::Status::Pass);
     let k = d.reserve_factor.unwrap();
-    assert!((1.0..=1.631341366 / 1.6313 * (1.0 + 1e-9)).contains(&k), "{k}");
+    assert!(
+        (1.0..=1.631341366 / 1.6313 * (1.0 + 1e-9)).contains(&k),
+        "{k}"
+    );
     assert_eq!(d.required_category, Some(56.0));
 }
 

@@ -271,7 +271,8 @@ pub const DEFAULT_MEAN_BINS: u32 = 16;
 
 /// Count the series files of a project, once each however many details refer to the
 /// same file (several columns of one file are counted in one pass over it); without
-/// per-cycle rules each counted cell enters the damage sum at its largest range.
+/// per-cycle rules each counted cell enters the damage sum and the searches at its
+/// largest range, if assessed (`lint` counts this way and sums no damage).
 pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
     build_with(project, &|_, _| None)
 }
