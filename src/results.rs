@@ -243,7 +243,7 @@ pub struct DetailResult {
     pub life_years: Option<f64>,
     /// Factor on all stress ranges that brings the governing check to its limit. For a
     /// detail with records counted cycle by cycle (`per_cycle`), the searches scale
-    /// the counted cycles' design ranges held in bins no wider than 1 part in 4096
+    /// the counted cycles' design ranges held in bins no wider than 1 part in 2048
     /// (upper edge over lower edge, less one): this is then the factor found with each
     /// cycle at the largest range of its bin — never above the exact factor, at most
     /// that relative width below it, and exact where each bin holds one range.

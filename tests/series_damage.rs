@@ -389,7 +389,7 @@ fn on_a_varied_record_the_bracket_holds_the_factor_that_brings_the_damage_to_the
     use seamlife::histories::damage::RANGE_RESOLUTION;
     // Thousands of cycles of many ranges, some of them near the knee and the cut-off
     // after scaling: the factor is bracketed by the bins (one bin wide at most,
-    // RANGE_RESOLUTION = 2^-12), and the record put at the bracket's ends (`scale`, which
+    // RANGE_RESOLUTION = 2^-11), and the record put at the bracket's ends (`scale`, which
     // scales every cycle's range, σmax and σmin; both mean-stress rules depend on their
     // ratio only, EN 1993-1-9 7.2.1(1)) gives per-cycle damage at most the limit at the
     // lower end and above it just past the upper end (Palmgren-Miner, A.6; D_lim = 1).

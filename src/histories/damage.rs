@@ -57,20 +57,25 @@ pub struct DamageTally {
     pub ranges: DesignRanges,
 }
 
-/// Mantissa bits that index a bin of [`DesignRanges`]: 2^12 bins per octave.
-pub const RANGE_BITS: u32 = 12;
-/// Largest ratio of a bin's upper to its lower edge, less one: 2^-12 = 2.44e-4.
+/// Mantissa bits that index a bin of [`DesignRanges`]: 2^11 bins per octave.
+pub const RANGE_BITS: u32 = 11;
+/// Largest ratio of a bin's upper to its lower edge, less one: 2^-11 = 4.88e-4.
 pub const RANGE_RESOLUTION: f64 = 1.0 / (1u64 << RANGE_BITS) as f64;
 const PAGE: usize = 1 << RANGE_BITS;
+/// Bins per chunk of a page, one bit of its `touched` mask each.
+const CHUNK: usize = PAGE / 64;
 const NO_PAGE: u32 = u32::MAX;
-/// An empty bin: no cycles, smallest range +∞, largest 0.
-const EMPTY: [f64; 3] = [0.0, f64::INFINITY, 0.0];
+/// Whole cycles held back before they are put into their bins, a rule at a time: the
+/// bins of several rules then do not crowd each other out of the cache.
+const PENDING: usize = 1024;
 
 /// Cycles counted by design range in bins whose upper edge is at most
 /// 1 + [`RANGE_RESOLUTION`] times their lower edge, each bin with its cycles and the
 /// smallest and largest design range counted in it. A bin is the value's binary
-/// exponent and its first 12 mantissa bits (bins of equal relative width, found
-/// without a logarithm); a page of 2^12 bins is made for each octave a range falls in.
+/// exponent and its first 11 mantissa bits (bins of equal relative width, found
+/// without a logarithm); a page of 2^11 bins is made for each octave a range falls in,
+/// zeroed by the allocator, and a mask of the page's touched 32-bin chunks keeps the
+/// merge of the parallel count's blocks to the bins they hold.
 /// With every range scaled by k, a damage sum that takes each bin's cycles at its
 /// largest range is never below the exact sum at k and never above the exact sum at
 /// k·(1 + resolution); at its smallest range, the other way round (each cycle moves by
@@ -80,8 +85,23 @@ const EMPTY: [f64; 3] = [0.0, f64::INFINITY, 0.0];
 pub struct DesignRanges {
     /// Page number of each biased binary exponent (2048 of them; `NO_PAGE`: none).
     index: Vec<u32>,
-    /// (biased exponent, [cycles, smallest, largest range] of each of its 2^12 bins).
-    pages: Vec<(u16, Vec<[f64; 3]>)>,
+    pages: Vec<Page>,
+    /// Design ranges of whole cycles not yet in their bins.
+    pending: Vec<f64>,
+}
+
+/// The bins of one octave.
+#[derive(Clone, Debug)]
+struct Page {
+    /// Biased binary exponent.
+    exp: u16,
+    /// Bit j: some bin of chunk j holds cycles.
+    touched: u64,
+    /// Per bin, in one cache line's reach: the bits of its cycles (f64), of its largest
+    /// range (f64; 0: none) and the bitwise NOT of the bits of its smallest range (0:
+    /// none; for positive values the bits order like the values, so the largest NOT is
+    /// the smallest range).
+    bins: Vec<[u64; 3]>,
 }
 
 impl DesignRanges {
@@ -91,16 +111,33 @@ impl DesignRanges {
         if !(d_mpa > 0.0 && d_mpa.is_finite()) {
             return;
         }
-        let b = self.bin(d_mpa);
-        b[0] += count;
-        b[1] = b[1].min(d_mpa);
-        b[2] = b[2].max(d_mpa);
+        if count == 1.0 {
+            if self.pending.capacity() == 0 {
+                self.pending.reserve_exact(PENDING);
+            }
+            self.pending.push(d_mpa);
+            if self.pending.len() >= PENDING {
+                self.flush();
+            }
+        } else {
+            self.put(d_mpa, d_mpa, count);
+        }
     }
 
-    /// The bin of a positive finite range, its page made if need be.
+    /// Put the held-back whole cycles into their bins.
+    fn flush(&mut self) {
+        let pending = std::mem::take(&mut self.pending);
+        for &d in &pending {
+            self.put(d, d, 1.0);
+        }
+        self.pending = pending;
+        self.pending.clear();
+    }
+
+    /// Add `count` cycles of ranges from `smallest` to `largest`, both in one bin.
     #[inline]
-    fn bin(&mut self, d_mpa: f64) -> &mut [f64; 3] {
-        let bits = d_mpa.to_bits();
+    fn put(&mut self, smallest: f64, largest: f64, count: f64) {
+        let bits = smallest.to_bits();
         let e = (bits >> 52) as usize;
         let bin = ((bits >> (52 - RANGE_BITS)) as usize) & (PAGE - 1);
         if self.index.is_empty() {
@@ -110,43 +147,72 @@ impl DesignRanges {
         if p == NO_PAGE {
             p = self.pages.len() as u32;
             self.index[e] = p;
-            self.pages.push((e as u16, vec![EMPTY; PAGE]));
+            self.pages.push(Page {
+                exp: e as u16,
+                touched: 0,
+                bins: vec![[0; 3]; PAGE],
+            });
         }
-        &mut self.pages[p as usize].1[bin]
+        let page = &mut self.pages[p as usize];
+        page.touched |= 1u64 << (bin / CHUNK);
+        let b = &mut page.bins[bin];
+        b[0] = (f64::from_bits(b[0]) + count).to_bits();
+        // positive finite values: the larger value has the larger bits
+        b[1] = b[1].max(largest.to_bits());
+        b[2] = b[2].max(!bits);
     }
 
     /// Add the cycles of another set.
     pub fn merge(&mut self, o: &DesignRanges) {
-        for (_, page) in &o.pages {
-            for x in page.iter().filter(|x| x[0] != 0.0) {
-                // the smallest range lies in the same bin as every value of it
-                let b = self.bin(x[1]);
-                b[0] += x[0];
-                b[1] = b[1].min(x[1]);
-                b[2] = b[2].max(x[2]);
-            }
+        for page in &o.pages {
+            page.each(|_, smallest, largest, n| self.put(smallest, largest, n));
+        }
+        for &d in &o.pending {
+            self.put(d, d, 1.0);
         }
     }
 
     /// Every non-empty bin: (smallest range, largest range, cycles), by rising range.
     pub fn bins(&self) -> Vec<(f64, f64, f64)> {
-        let mut pages: Vec<&(u16, Vec<[f64; 3]>)> = self.pages.iter().collect();
-        pages.sort_by_key(|p| p.0);
-        pages
-            .into_iter()
-            .flat_map(|p| p.1.iter())
-            .filter(|x| x[0] != 0.0)
-            .map(|x| (x[1], x[2], x[0]))
-            .collect()
+        if !self.pending.is_empty() {
+            let mut all = self.clone();
+            all.flush();
+            return all.bins();
+        }
+        let mut pages: Vec<&Page> = self.pages.iter().collect();
+        pages.sort_by_key(|p| p.exp);
+        let mut out = Vec::new();
+        for p in pages {
+            p.each(|_, smallest, largest, n| out.push((smallest, largest, n)));
+        }
+        out
     }
 
     /// Σ cycles.
     pub fn cycles(&self) -> f64 {
-        self.pages
-            .iter()
-            .flat_map(|p| p.1.iter())
-            .map(|x| x[0])
-            .sum()
+        self.bins().iter().map(|b| b.2).sum()
+    }
+}
+
+impl Page {
+    /// (bin, smallest, largest, cycles) of every non-empty bin, by rising range.
+    fn each(&self, mut f: impl FnMut(usize, f64, f64, f64)) {
+        let mut mask = self.touched;
+        while mask != 0 {
+            let j = mask.trailing_zeros() as usize;
+            mask &= mask - 1;
+            for (bin, b) in self.bins[j * CHUNK..(j + 1) * CHUNK].iter().enumerate() {
+                let n = f64::from_bits(b[0]);
+                if n != 0.0 {
+                    f(
+                        j * CHUNK + bin,
+                        f64::from_bits(!b[2]),
+                        f64::from_bits(b[1]),
+                        n,
+                    );
+                }
+            }
+        }
     }
 }
 
