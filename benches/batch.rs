@@ -5,7 +5,8 @@
 //! (15 M history rows) < 5 s; peak memory < 1 GB; 1 000 000 details < 20 s.
 //!
 //! `cargo bench --bench batch`. `SEAMLIFE_BENCH_CASES` picks cases (`blocks,histories,million`),
-//! `SEAMLIFE_BENCH_RUNS` the repeats (default 3).
+//! `SEAMLIFE_BENCH_RUNS` the repeats (default 3), `SEAMLIFE_BENCH_BIN` another
+//! seamlife binary to run (an earlier build, for a before/after comparison).
 
 #[path = "support/batchgen.rs"]
 mod batchgen;
@@ -21,7 +22,10 @@ use std::time::Instant;
 /// Wall time (s) and peak resident memory (MB) of one child process.
 fn run_child(project: &Path, out: &Path) -> (f64, f64) {
     let t = Instant::now();
-    let mut child = Command::new(env!("CARGO_BIN_EXE_seamlife"))
+    // SEAMLIFE_BENCH_BIN: another build, to compare before and after on the same tables
+    let bin = std::env::var("SEAMLIFE_BENCH_BIN")
+        .unwrap_or_else(|_| env!("CARGO_BIN_EXE_seamlife").to_string());
+    let mut child = Command::new(bin)
         .arg("assess")
         .arg(project)
         .args(["--csv", "--quiet", "-o"])

@@ -241,9 +241,21 @@ pub struct DetailResult {
     /// The damage limit of that component's check.
     pub damage_limit: f64,
     pub life_years: Option<f64>,
-    /// Factor on all stress ranges that brings the governing check to its limit.
+    /// Factor on all stress ranges that brings the governing check to its limit. For a
+    /// detail with records counted cycle by cycle (`per_cycle`), the searches scale
+    /// the counted cycles' design ranges held in bins no wider than 1 part in 2048
+    /// (upper edge over lower edge, less one): this is then the factor found with each
+    /// cycle at the largest range of its bin — never above the exact factor, at most
+    /// that relative width below it, and exact where each bin holds one range.
     pub reserve_factor: Option<f64>,
-    /// Lowest catalogue category of the governing component that passes.
+    /// For such a detail, the factor found with each counted cycle at the smallest
+    /// range of its bin: never below the exact factor, so the exact factor lies between
+    /// `reserve_factor` and this. Absent when no cycles are binned.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reserve_factor_upper: Option<f64>,
+    /// Lowest catalogue category of the governing component that passes (counted
+    /// cycles at their bins' largest ranges, as for `reserve_factor`; the detail's own
+    /// category is judged by the exact damage).
     pub required_category: Option<f64>,
     pub components: Vec<ComponentResult>,
     pub interaction: Option<InteractionResult>,

@@ -351,6 +351,8 @@ fn lint_checks_the_series_as_assess_does() {
     let (code, out, err) = run_in(d, &["lint", "p.yaml"]);
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("1 series file read and counted"), "{out}");
+    // lint checks the record by counting it and says that it sums no damage
+    assert!(out.contains("no damage summed"), "{out}");
 }
 
 #[test]

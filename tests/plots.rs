@@ -305,6 +305,7 @@ fn detail(id: &str, utilisation: f64, status: Status) -> DetailResult {
         damage_limit: 1.0,
         life_years: (utilisation > 0.0).then(|| 25.0 / utilisation),
         reserve_factor: None,
+        reserve_factor_upper: None,
         required_category: None,
         components: Vec::new(),
         interaction: None,

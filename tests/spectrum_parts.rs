@@ -849,10 +849,15 @@ fn a_project_series_event_reads_a_merged_part_with_cells_at_their_largest_range(
         let fam = lib.get(&project.file.basis.family).unwrap();
         let h = seamlife::histories::build(&project).unwrap();
         let cells = seamlife::assess::assess(&project, fam, &h);
-        (r, cells.details[0].components[0].damage)
+        let c = &cells.details[0];
+        (
+            r,
+            c.components[0].damage,
+            (c.reserve_factor, c.required_category),
+        )
     };
-    let (from_csv, csv_cells) = run(project("rec.csv", ""));
-    let (from_part, _) = run(project("rec.part.json", ""));
+    let (from_csv, csv_cells, csv_cell_searches) = run(project("rec.csv", ""));
+    let (from_part, _, _) = run(project("rec.part.json", ""));
     let (a, b) = (
         &from_csv.details[0].components[0],
         &from_part.details[0].components[0],
@@ -885,6 +890,22 @@ fn a_project_series_event_reads_a_merged_part_with_cells_at_their_largest_range(
         "conservative: {dp} vs {}",
         a.damage
     );
+    // its reserve factor and required category are searched on the same cells at
+    // their largest range (no bins of cycles, so no bracket is stated); the CSV
+    // record's searches bracket the exact factor, which is never below the cells'
+    // (as-welded: each cycle at or below its cell's largest range), within one bin
+    let (dc, dpart) = (&from_csv.details[0], &from_part.details[0]);
+    let (k_cells, cat_cells) = csv_cell_searches;
+    let k_part = dpart.reserve_factor.unwrap();
+    assert!((k_part - k_cells.unwrap()).abs() <= 1e-12 * k_part);
+    assert_eq!(dpart.required_category, cat_cells);
+    assert_eq!(dpart.reserve_factor_upper, None);
+    assert!(dc.reserve_factor_upper.is_some());
+    let (lo, hi) = (dc.reserve_factor.unwrap(), dc.reserve_factor_upper.unwrap());
+    let res = seamlife::histories::damage::RANGE_RESOLUTION;
+    assert!(hi >= k_part * (1.0 - 1e-12), "{hi} vs {k_part}");
+    assert!(lo >= k_part * (1.0 - res), "{lo} vs {k_part}");
+    assert!(lo <= hi && hi / lo - 1.0 <= res, "{lo} {hi}");
     // the event's options must be those the part was counted with
     let y = d.join("p.yaml");
     std::fs::write(&y, project("rec.part.json", "            bins: 32\n")).unwrap();

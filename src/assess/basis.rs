@@ -331,6 +331,6 @@ fn judgements(fam: &Family, basis: &ResolvedBasis) -> Vec<String> {
     out.push(
         "Mean-stress rules act on normal stress only; shear stress ranges count in full.".into(),
     );
-    out.push("Every cycle of a counted record enters the damage sum and the mean-stress rule at its own range and mean (EN 1993-1-9 A.6, term by term); the range-mean matrix is for display, and the reserve-factor and required-category searches take each of its cells at its largest range, which is conservative.".into());
+    out.push("Every cycle of a counted record enters the damage sum and the mean-stress rule at its own range and mean (EN 1993-1-9 A.6, term by term); the range-mean matrix is for display. The reserve-factor and required-category searches scale every cycle's design range γFf·Δσ_eff (both mean-stress rules depend on σmin/σmax only, so a factor on the stresses is a factor on the effective range): the count keeps the cycles in bins of design range no wider than 1 part in 2048 with the smallest and largest range of each, and the searches take each bin at its largest range, so the reserve factor is never above the exact one and at most 1 part in 2048 below it (exact where a bin holds one range; the results give, as the other end of the bracket, the factor with each bin at its smallest range), and the detail's own category is judged by the exact damage. A spectrum part holds cells only: its cells enter both the damage and the searches at their largest range.".into());
     out
 }

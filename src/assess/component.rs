@@ -261,6 +261,7 @@ impl crate::histories::damage::CycleRule for CycleDamageRule {
             damage,
             segment,
             mean_rule_acted: (f - 1.0).abs() > 1e-15,
+            design_range_mpa: design_range,
         }
     }
 }
@@ -817,13 +818,34 @@ pub(super) fn assess_component(
         crane_route: s.crane.clone(),
         improvement: s.improvement.clone(),
     };
+    // The searches scale every design range. The cells of a record counted cycle by
+    // cycle enter them as its cycles' design ranges in fine bins (histories::damage::
+    // DesignRanges), each bin at the largest range counted in it (conservative) and,
+    // for the other end of the bracket, at its smallest; other blocks at their own
+    // ranges.
+    let mut search = Vec::new();
+    let mut search_low = Vec::new();
+    for (l, b) in loads.iter().zip(&s.history.blocks) {
+        if b.damage_per_year.is_none() {
+            search.push(*l);
+            search_low.push(*l);
+        }
+    }
+    for e in &s.history.exact {
+        for &(lo, hi, n) in &e.ranges {
+            search.push((hi, n));
+            search_low.push((lo, n));
+        }
+    }
+    let low = (!s.history.exact.is_empty()).then(|| Prepared::new(&cv.unit, ca_ratio, search_low));
     let part = Part {
         comp: s.comp,
         m1,
         dlim,
         form,
         source,
-        prepared: Prepared::new(&cv.unit, ca_ratio, loads),
+        prepared: Prepared::new(&cv.unit, ca_ratio, search),
+        low,
         design_ref: cv.design_ref,
         // what one MPa of category is worth on this curve: ks × (class reference
         // range / category) / SCF, so the required-category search meets the same curve

@@ -108,3 +108,42 @@ pub(super) fn size_correction(
         },
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn case(fraction: Option<f64>, points: Option<Vec<[f64; 2]>>) -> MeanStressCase {
+        MeanStressCase {
+            name: "case".into(),
+            compressive_fraction: fraction,
+            enhancement_points: points,
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(300))]
+        // The reserve-factor search scales every cycle's effective range by the factor
+        // on the stresses: that holds because both rules depend on σmin/σmax only
+        // (EN 1993-1-9 7.2.1(1): tensile part + 0.6 × compressive part, linear in the
+        // stresses; IIW f(R), R = σmin/σmax; points of the IIW family file, from memory).
+        #[test]
+        fn the_mean_stress_factor_does_not_change_when_the_stresses_are_scaled(
+            hi in -300.0f64..300.0,
+            span in 0.01f64..400.0,
+            k in 0.01f64..50.0,
+        ) {
+            let lo = hi - span;
+            for c in [
+                case(Some(0.6), None),
+                case(None, Some(vec![[-1.0, 1.6], [0.5, 1.0]])),
+                case(None, Some(vec![[-1.0, 1.3], [-0.25, 1.0]])),
+            ] {
+                let f1 = mean_stress_factor(&c, Some(hi), Some(lo));
+                let fk = mean_stress_factor(&c, Some(k * hi), Some(k * lo));
+                prop_assert!((f1 - fk).abs() <= 1e-12 * f1, "{f1} vs {fk}");
+            }
+        }
+    }
+}

@@ -330,6 +330,7 @@ fn assess_detail(
         damage_limit,
         life_years: v.life_years,
         reserve_factor: v.reserve_factor,
+        reserve_factor_upper: v.reserve_factor_upper,
         required_category: v.required_category,
         components: comps,
         interaction: v.interaction,

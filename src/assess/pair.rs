@@ -188,6 +188,7 @@ pub(super) fn verify_pair(
     // the factor on all ranges that brings the check in force to 1: 1/ratio (both
     // checks are linear in the ranges)
     v.reserve_factor = (in_force_ratio > 0.0).then(|| 1.0 / in_force_ratio);
+    v.reserve_factor_upper = None;
     v.required_category = required
         .and_then(|(_, c)| fam.curves.normal.classes.get(&c.class))
         .map(|k| k.category_mpa);

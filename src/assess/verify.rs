@@ -149,7 +149,11 @@ pub(super) struct Part {
     /// Measure of the component's check.
     pub(super) form: UtilisationForm,
     pub(super) source: String,
+    /// The ranges as the searches scale them: counted cycles at their bins' largest range.
     pub(super) prepared: Prepared,
+    /// For a component with cycles in bins: the same at the bins' smallest range (the
+    /// other end of the bracket on the exact factor); `None` when every range is exact.
+    pub(super) low: Option<Prepared>,
     /// ks·ΔσC/γMf of the component.
     pub(super) design_ref: f64,
     /// Size factor, to move the curve to another category.
@@ -304,6 +308,8 @@ pub(super) struct Verdict {
     pub(super) interaction: Option<InteractionResult>,
     pub(super) life_years: Option<f64>,
     pub(super) reserve_factor: Option<f64>,
+    /// The other end of the bracket on the exact reserve factor, when ranges are binned.
+    pub(super) reserve_factor_upper: Option<f64>,
     pub(super) required_category: Option<f64>,
     /// Whether the detail passes, where a verification form decides it by one check
     /// (the AASHTO pair's check in force); `None`: every check must pass.
@@ -420,20 +426,41 @@ pub(super) fn verify_detail(
     };
 
     // Reserve factor: the largest factor on all ranges for which every check passes.
-    let check_at = |k: f64, refs: &[f64]| -> f64 {
+    let check_with = |k: f64, refs: &[f64], low: bool| -> f64 {
         let at: Vec<f64> = parts
             .iter()
             .zip(refs)
-            .map(|(p, &r)| p.prepared.damage_per_year(r, k) * years / p.dlim)
+            .map(|(p, &r)| {
+                let prep = if low {
+                    p.low.as_ref().unwrap_or(&p.prepared)
+                } else {
+                    &p.prepared
+                };
+                prep.damage_per_year(r, k) * years / p.dlim
+            })
             .collect();
         worst(parts, interaction, &at)
     };
+    let check_at = |k: f64, refs: &[f64]| check_with(k, refs, false);
     let refs: Vec<f64> = parts.iter().map(|p| p.design_ref).collect();
-    let reserve_factor = if parts.is_empty() {
+    // some counted cycles are known by their bins only (histories::damage::DesignRanges)
+    let binned = parts.iter().any(|p| p.low.is_some());
+    // every check passes on the exact damage at the detail's own ranges and category
+    let passes_exactly = checks.iter().all(|c| c.passes);
+    let mut reserve_factor = if parts.is_empty() {
         None
     } else {
         sup_passing(|k| check_at(k, &refs))
     };
+    let mut reserve_factor_upper = None;
+    if binned {
+        // the exact damage passes at k = 1, so the exact factor is at least 1; the
+        // bins' largest ranges may lie up to one bin above their cycles
+        if passes_exactly {
+            reserve_factor = reserve_factor.map(|k| k.max(1.0));
+        }
+        reserve_factor_upper = sup_passing(|k| check_with(k, &refs, true));
+    }
 
     // Required category, per component: lowest listed category that passes with the
     // other components unchanged.
@@ -447,7 +474,13 @@ pub(super) fn verify_detail(
         let first = cats.partition_point(|&cat| {
             // ΔσC,d = ks·ΔσC/γMf (EN 1993-1-9 eq. (8.2) denominator)
             r[i] = p.size_factor * cat / gmf;
-            check_at(1.0, &r) > 1.0 + PASS_TOLERANCE
+            let own = r.iter().zip(&refs).all(|(a, b)| (a - b).abs() <= 1e-12 * b);
+            if binned && own {
+                // the detail's own category: judged by the exact damage
+                !passes_exactly
+            } else {
+                check_at(1.0, &r) > 1.0 + PASS_TOLERANCE
+            }
         });
         let found = cats.get(first).copied();
         comps[i].required_category_mpa = found;
@@ -470,6 +503,7 @@ pub(super) fn verify_detail(
         interaction: interaction_result,
         life_years,
         reserve_factor,
+        reserve_factor_upper,
         required_category,
         passes: None,
     }

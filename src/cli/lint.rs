@@ -1,6 +1,10 @@
 //! `seamlife lint`: check a project file without assessing it. Every check that
 //! `assess` makes before the engine runs is made here too: the schema and values, the
 //! family, and the series (their paths and every cell, by counting them).
+//!
+//! `lint` counts the series without the details' damage rules and sums no damage: it
+//! checks inputs, and a count without rules is the fast one. The damage (per counted
+//! cycle), reserve factor and required category are `assess`'s; the output says so.
 
 use std::path::Path;
 
@@ -27,8 +31,8 @@ pub(super) fn run(file: &Path, library: &Library) -> Result<i32, Error> {
         project.file.seamlife,
         match series {
             0 => String::new(),
-            1 => ", 1 series file read and counted".to_string(),
-            n => format!(", {n} series files read and counted"),
+            1 => ", 1 series file read and counted (no damage summed: assess sums it per counted cycle)".to_string(),
+            n => format!(", {n} series files read and counted (no damage summed: assess sums it per counted cycle)"),
         }
     ))?;
     Ok(EXIT_PASS)

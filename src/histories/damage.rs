@@ -24,6 +24,8 @@ pub struct CycleEffect {
     pub segment: Option<usize>,
     /// The mean-stress rule changed its range.
     pub mean_rule_acted: bool,
+    /// Its design range γFf·Δσ_eff in MPa (the range the curve was entered with).
+    pub design_range_mpa: f64,
 }
 
 /// The damage of one cycle on one detail (its curve and corrections).
@@ -50,6 +52,168 @@ pub struct DamageTally {
     pub below: f64,
     /// The mean-stress rule changed the range of some cycle.
     pub acted: bool,
+    /// The cycles by design range in fine logarithmic bins, for the searches that
+    /// scale every range (reserve factor, required category).
+    pub ranges: DesignRanges,
+}
+
+/// Mantissa bits that index a bin of [`DesignRanges`]: 2^11 bins per octave.
+pub const RANGE_BITS: u32 = 11;
+/// Largest ratio of a bin's upper to its lower edge, less one: 2^-11 = 4.88e-4.
+pub const RANGE_RESOLUTION: f64 = 1.0 / (1u64 << RANGE_BITS) as f64;
+const PAGE: usize = 1 << RANGE_BITS;
+/// Bins per chunk of a page, one bit of its `touched` mask each.
+const CHUNK: usize = PAGE / 64;
+const NO_PAGE: u32 = u32::MAX;
+/// Whole cycles held back before they are put into their bins, a rule at a time: the
+/// bins of several rules then do not crowd each other out of the cache.
+const PENDING: usize = 1024;
+
+/// Cycles counted by design range in bins whose upper edge is at most
+/// 1 + [`RANGE_RESOLUTION`] times their lower edge, each bin with its cycles and the
+/// smallest and largest design range counted in it. A bin is the value's binary
+/// exponent and its first 11 mantissa bits (bins of equal relative width, found
+/// without a logarithm); a page of 2^11 bins is made for each octave a range falls in,
+/// zeroed by the allocator, and a mask of the page's touched 32-bin chunks keeps the
+/// merge of the parallel count's blocks to the bins they hold.
+/// With every range scaled by k, a damage sum that takes each bin's cycles at its
+/// largest range is never below the exact sum at k and never above the exact sum at
+/// k·(1 + resolution); at its smallest range, the other way round (each cycle moves by
+/// at most the bin's ratio; common practice: bracketing by bins). Where a bin holds one
+/// range only, both are exact.
+#[derive(Clone, Debug, Default)]
+pub struct DesignRanges {
+    /// Page number of each biased binary exponent (2048 of them; `NO_PAGE`: none).
+    index: Vec<u32>,
+    pages: Vec<Page>,
+    /// Design ranges of whole cycles not yet in their bins.
+    pending: Vec<f64>,
+}
+
+/// The bins of one octave.
+#[derive(Clone, Debug)]
+struct Page {
+    /// Biased binary exponent.
+    exp: u16,
+    /// Bit j: some bin of chunk j holds cycles.
+    touched: u64,
+    /// Per bin, in one cache line's reach: the bits of its cycles (f64), of its largest
+    /// range (f64; 0: none) and the bitwise NOT of the bits of its smallest range (0:
+    /// none; for positive values the bits order like the values, so the largest NOT is
+    /// the smallest range).
+    bins: Vec<[u64; 3]>,
+}
+
+impl DesignRanges {
+    /// Add `count` cycles of design range `d_mpa` (> 0 and finite; others are skipped).
+    #[inline]
+    pub fn add(&mut self, d_mpa: f64, count: f64) {
+        if !(d_mpa > 0.0 && d_mpa.is_finite()) {
+            return;
+        }
+        if count == 1.0 {
+            if self.pending.capacity() == 0 {
+                self.pending.reserve_exact(PENDING);
+            }
+            self.pending.push(d_mpa);
+            if self.pending.len() >= PENDING {
+                self.flush();
+            }
+        } else {
+            self.put(d_mpa, d_mpa, count);
+        }
+    }
+
+    /// Put the held-back whole cycles into their bins.
+    fn flush(&mut self) {
+        let pending = std::mem::take(&mut self.pending);
+        for &d in &pending {
+            self.put(d, d, 1.0);
+        }
+        self.pending = pending;
+        self.pending.clear();
+    }
+
+    /// Add `count` cycles of ranges from `smallest` to `largest`, both in one bin.
+    #[inline]
+    fn put(&mut self, smallest: f64, largest: f64, count: f64) {
+        let bits = smallest.to_bits();
+        let e = (bits >> 52) as usize;
+        let bin = ((bits >> (52 - RANGE_BITS)) as usize) & (PAGE - 1);
+        if self.index.is_empty() {
+            self.index = vec![NO_PAGE; 2048];
+        }
+        let mut p = self.index[e];
+        if p == NO_PAGE {
+            p = self.pages.len() as u32;
+            self.index[e] = p;
+            self.pages.push(Page {
+                exp: e as u16,
+                touched: 0,
+                bins: vec![[0; 3]; PAGE],
+            });
+        }
+        let page = &mut self.pages[p as usize];
+        page.touched |= 1u64 << (bin / CHUNK);
+        let b = &mut page.bins[bin];
+        b[0] = (f64::from_bits(b[0]) + count).to_bits();
+        // positive finite values: the larger value has the larger bits
+        b[1] = b[1].max(largest.to_bits());
+        b[2] = b[2].max(!bits);
+    }
+
+    /// Add the cycles of another set.
+    pub fn merge(&mut self, o: &DesignRanges) {
+        for page in &o.pages {
+            page.each(|_, smallest, largest, n| self.put(smallest, largest, n));
+        }
+        for &d in &o.pending {
+            self.put(d, d, 1.0);
+        }
+    }
+
+    /// Every non-empty bin: (smallest range, largest range, cycles), by rising range.
+    pub fn bins(&self) -> Vec<(f64, f64, f64)> {
+        if !self.pending.is_empty() {
+            let mut all = self.clone();
+            all.flush();
+            return all.bins();
+        }
+        let mut pages: Vec<&Page> = self.pages.iter().collect();
+        pages.sort_by_key(|p| p.exp);
+        let mut out = Vec::new();
+        for p in pages {
+            p.each(|_, smallest, largest, n| out.push((smallest, largest, n)));
+        }
+        out
+    }
+
+    /// Σ cycles.
+    pub fn cycles(&self) -> f64 {
+        self.bins().iter().map(|b| b.2).sum()
+    }
+}
+
+impl Page {
+    /// (bin, smallest, largest, cycles) of every non-empty bin, by rising range.
+    fn each(&self, mut f: impl FnMut(usize, f64, f64, f64)) {
+        let mut mask = self.touched;
+        while mask != 0 {
+            let j = mask.trailing_zeros() as usize;
+            mask &= mask - 1;
+            for (bin, b) in self.bins[j * CHUNK..(j + 1) * CHUNK].iter().enumerate() {
+                let n = f64::from_bits(b[0]);
+                if n != 0.0 {
+                    f(
+                        j * CHUNK + bin,
+                        f64::from_bits(!b[2]),
+                        f64::from_bits(b[1]),
+                        n,
+                    );
+                }
+            }
+        }
+    }
 }
 
 impl DamageTally {
@@ -61,6 +225,7 @@ impl DamageTally {
             bands: vec![(0.0, 0.0); rule.segments()],
             below: 0.0,
             acted: false,
+            ranges: DesignRanges::default(),
         }
     }
 
@@ -72,6 +237,7 @@ impl DamageTally {
             bands: vec![(0.0, 0.0); self.bands.len()],
             below: 0.0,
             acted: false,
+            ranges: DesignRanges::default(),
         }
     }
 
@@ -94,6 +260,7 @@ impl DamageTally {
             _ => self.below += c.count,
         }
         self.cells.add_block(c.range, c.mean, e.damage);
+        self.ranges.add(e.design_range_mpa, c.count);
     }
 
     /// Add the tally of cycles counted elsewhere (another part of the record).
@@ -106,6 +273,7 @@ impl DamageTally {
         }
         self.below += o.below;
         self.acted |= o.acted;
+        self.ranges.merge(&o.ranges);
         Ok(())
     }
 

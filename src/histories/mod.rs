@@ -72,6 +72,10 @@ pub struct ExactDamage {
     pub below: f64,
     /// The mean-stress rule changed the range of some cycle.
     pub acted: bool,
+    /// The cycles by design range γFf·Δσ_eff: (smallest range, largest range, cycles)
+    /// of each non-empty bin of [`damage::DesignRanges`] (MPa), by rising range; what
+    /// the reserve-factor and required-category searches scale.
+    pub ranges: Vec<(f64, f64, f64)>,
 }
 
 impl ExactDamage {
@@ -82,6 +86,11 @@ impl ExactDamage {
             bands: self.bands.iter().map(|&(n, d)| (n * k, d * k)).collect(),
             below: self.below * k,
             acted: self.acted,
+            ranges: self
+                .ranges
+                .iter()
+                .map(|&(lo, hi, n)| (lo, hi, n * k))
+                .collect(),
         }
     }
 }
@@ -262,7 +271,8 @@ pub const DEFAULT_MEAN_BINS: u32 = 16;
 
 /// Count the series files of a project, once each however many details refer to the
 /// same file (several columns of one file are counted in one pass over it); without
-/// per-cycle rules each counted cell enters the damage sum at its largest range.
+/// per-cycle rules each counted cell enters the damage sum and the searches at its
+/// largest range, if assessed (`lint` counts this way and sums no damage).
 pub fn build(project: &Project) -> Result<ProjectHistories, Error> {
     build_with(project, &|_, _| None)
 }
@@ -561,6 +571,7 @@ fn count_group(
                     bands: t.bands.clone(),
                     below: t.below,
                     acted: t.acted,
+                    ranges: t.ranges.bins(),
                 });
             out.push((q, (cc.counted.clone(), exact)));
         }

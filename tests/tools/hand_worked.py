@@ -368,6 +368,38 @@ def stud():
     p("EN stud: D on m = 8", D(10) ** 6 / n8)
     p("EN lap joint shear: D on m = 5", D(10) ** 6 / (D(2) * D(10) ** 6 * base ** 5))
 
+def reserve():
+    """Reserve factor and required category of a counted record, cycle by cycle:
+    the ASTM E1049-85 example ×10 MPa as a repeating history (full cycles of 90, 70,
+    40 and 30 MPa from 50..-40, 40..-30, 30..-10 and 10..-20), 2000 repetitions a year
+    over 25 years, category 56, γMf 1.35, D_lim = 1 (EN 1993-1-9 A.6)."""
+    print("== tests/series_damage.rs, reserve factor and required category per cycle")
+    reps = D(2000) * 25
+    cycles = {
+        # Δσ_eff = tensile part + 0.6·compressive part (EN 1993-1-9 7.2.1(1))
+        "stress-relieved": [D(50) + D("0.6") * 40, D(40) + D("0.6") * 30,
+                            D(30) + D("0.6") * 10, D(10) + D("0.6") * 20],
+        "as-welded": [D(90), D(70), D(40), D(30)],
+    }
+    cats = [36, 40, 45, 50, 56, 63, 71, 80, 90, 100, 112, 125, 140, 160]
+    for case, rs in cycles.items():
+        def dmg(k, cat=56):
+            total = D(0)
+            for r in rs:
+                nn = en_endurance(k * r, cat, D("1.35"))
+                if nn is not None:
+                    total += reps / nn
+            return total
+        p(f"{case}: D at k = 1", dmg(D(1)))
+        p(f"{case}: reserve factor (D(k) = 1)", bisect(lambda k: dmg(k) - 1, D("0.1"), D(10)))
+        first = next(c for c in cats if dmg(D(1), c) <= 1)
+        p(f"{case}: lowest passing category", first)
+        below = [c for c in cats if c < first]
+        if below:
+            p(f"{case}: D at the category below it ({below[-1]})", dmg(D(1), below[-1]))
+        p(f"{case}: D at the lowest passing category", dmg(D(1), first))
+
+
 if __name__ == "__main__":
     engine()
     curves()
@@ -379,3 +411,4 @@ if __name__ == "__main__":
     aashto()
     catalogues()
     stud()
+    reserve()
